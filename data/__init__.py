@@ -1,0 +1,1 @@
+"""Species database of eqdesign (YAML files read with importlib.resources)."""

@@ -1,0 +1,217 @@
+"""The ``eqdesign`` command line.
+
+Subcommands (each has ``--help``):
+
+* ``eqdesign ktable REACTION``  K(T), ΔrH°, ΔrS°, ΔrG° over a temperature range
+* ``eqdesign species NAME``     data, valid range and source of a species (``--list`` for all)
+* ``eqdesign point ...``        one equilibrium state, as a table or ``--json``
+
+Bad input gives one message naming what is wrong and how to fix it, exit status 2.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+import warnings
+
+import numpy as np
+
+from ..thermo import (
+    DatabaseError, Reaction, ReactionError, UnitError, UnknownSpeciesError, bundled_database,
+    to_kelvin, to_pascal,
+)
+
+EXIT_INPUT = 2
+
+
+class InputProblem(Exception):
+    """A user-facing input problem: printed as one line, exit status 2."""
+
+
+def _temperature(text: str, what: str) -> float:
+    try:
+        value = to_kelvin(text if any(c.isalpha() for c in text) else float(text))
+    except (UnitError, ValueError) as exc:
+        raise InputProblem(f"{what}: {exc}; give e.g. '450 degC' or '723.15' (kelvin)") from None
+    if value <= 0:
+        raise InputProblem(f"{what}: {text!r} is at or below absolute zero")
+    return float(value)
+
+
+def _pressure(text: str, what: str) -> float:
+    try:
+        value = to_pascal(text if any(c.isalpha() for c in text) else float(text))
+    except (UnitError, ValueError) as exc:
+        raise InputProblem(f"{what}: {exc}; give e.g. '30 bar' or '3e6' (pascal)") from None
+    if value <= 0:
+        raise InputProblem(f"{what}: pressure must be positive")
+    return float(value)
+
+
+def cmd_ktable(args) -> int:
+    db = bundled_database()
+    try:
+        rxn = Reaction.parse(args.reaction, db)
+    except ReactionError as exc:
+        raise InputProblem(str(exc)) from None
+    t_lo = _temperature(args.t_low, "--from")
+    t_hi = _temperature(args.t_high, "--to")
+    if t_hi < t_lo:
+        raise InputProblem("--to must not be below --from")
+    n = max(2, int(args.points))
+    T = np.linspace(t_lo, t_hi, n)
+    lo, hi = rxn.T_range
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        lnK = np.asarray(rxn.ln_K(T))
+        dH = np.asarray(rxn.delta_h(T))
+        dS = np.asarray(rxn.delta_s(T))
+        dG = np.asarray(rxn.delta_g(T))
+    print(f"Reaction: {rxn.text}   (Δn gas = {rxn.delta_n_gas:g}; standard state 1 bar)")
+    print(f"Data range of all species: {lo:g}-{hi:g} K")
+    header = f"{'T [K]':>9} {'T [degC]':>9} {'K [-]':>12} {'log10 K':>9} {'ΔrH° [kJ/mol]':>14} " \
+             f"{'ΔrS° [J/(mol K)]':>17} {'ΔrG° [kJ/mol]':>14}"
+    print(header)
+    print("-" * len(header))
+    for i in range(n):
+        flag = " *" if (T[i] < lo - 2.0 or T[i] > hi) else ""
+        print(f"{T[i]:9.2f} {T[i] - 273.15:9.2f} {math.exp(lnK[i]):12.4e} {lnK[i] / math.log(10):9.4f} "
+              f"{dH[i] / 1000:14.3f} {dS[i]:17.3f} {dG[i] / 1000:14.3f}{flag}")
+    if np.any((T < lo - 2.0) | (T > hi)):
+        print("* outside the data range of at least one species: extrapolated")
+    print("Sources: " + "; ".join(sorted({sp.reference for sp in rxn.species})))
+    return 0
+
+
+def cmd_species(args) -> int:
+    db = bundled_database()
+    if args.list:
+        for sp in db:
+            print(f"{sp.name:16} {sp.phase:7} {sp.common_name}")
+        return 0
+    if not args.name:
+        raise InputProblem("species: give a species name, or --list")
+    try:
+        sp = db[args.name]
+    except UnknownSpeciesError as exc:
+        raise InputProblem(str(exc)) from None
+    print(f"{sp.name}  ({sp.common_name or sp.formula})")
+    print(f"  formula        {sp.formula}")
+    print(f"  elements       " + ", ".join(f"{k} {v:g}" for k, v in sp.elements.items()))
+    print(f"  phase          {sp.phase}")
+    print(f"  molar mass     {sp.molar_mass:.4f} g/mol")
+    print(f"  valid range    {sp.T_min:g}-{sp.T_max:g} K")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        print(f"  ΔfH°(298.15 K) {float(sp.model.enthalpy(298.15)) / 1000:.3f} kJ/mol")
+        print(f"  S°(298.15 K)   {float(sp.model.entropy(298.15)):.3f} J/(mol K)  (1 bar)")
+    if sp.critical:
+        c = sp.critical
+        print(f"  critical       Tc {c.Tc:g} K, Pc {c.Pc / 1e5:g} bar, omega {c.omega:g}")
+    print(f"  data source    {sp.reference}" + (f" [{sp.data_note}]" if sp.data_note else ""))
+    return 0
+
+
+def _parse_feed(items) -> dict:
+    feed = {}
+    for item in items:
+        if "=" not in item:
+            raise InputProblem(f"--feed {item!r}: write NAME=AMOUNT, e.g. N2=1 H2=3")
+        name, value = item.split("=", 1)
+        try:
+            feed[name.strip()] = float(value)
+        except ValueError:
+            raise InputProblem(f"--feed {item!r}: amount {value!r} is not a number (mol)") from None
+        if feed[name.strip()] < 0:
+            raise InputProblem(f"--feed {item!r}: amounts must not be negative")
+    if not feed:
+        raise InputProblem("--feed: give at least one NAME=AMOUNT")
+    return feed
+
+
+def cmd_point(args) -> int:
+    from .equilibrium import EquilibriumInputError, equilibrium
+    db = bundled_database()
+    feed = _parse_feed(args.feed)
+    species = list(args.species or [])
+    T = _temperature(args.temperature, "--temperature")
+    P = _pressure(args.pressure, "--pressure")
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            res = equilibrium(species, feed, T, P, reactions=args.reaction or None,
+                              gas_model=args.gas_model, database=db, warn=False)
+    except (EquilibriumInputError, ReactionError, UnknownSpeciesError) as exc:
+        raise InputProblem(str(exc)) from None
+    payload = {
+        "T_K": T, "P_Pa": P, "gas_model": args.gas_model, "converged": bool(res.converged),
+        "iterations": int(res.iterations), "max_residual": float(res.max_residual),
+        "amounts_mol": res.amounts, "gas_mole_fractions": res.mole_fractions,
+        "condensed_present": [k for k, v in res.condensed.items() if v > 0],
+    }
+    if res.reactions:
+        payload["extents_mol"] = res.extents
+        payload["Q_over_K"] = res.quotient_over_K()
+    if args.json:
+        json.dump(payload, sys.stdout, indent=2)
+        print()
+        return 0 if res.all_converged else 1
+    status = "converged" if res.all_converged else "NOT CONVERGED"
+    print(f"Equilibrium at {T:.2f} K ({T - 273.15:.2f} degC), {P / 1e5:.4g} bar, "
+          f"{args.gas_model} gas: {status} in {int(res.iterations)} iterations")
+    print(f"{'species':16} {'amount [mol]':>14} {'gas mole fraction [-]':>22}")
+    y = res.mole_fractions
+    for name, n in res.amounts.items():
+        print(f"{name:16} {n:14.6e} {y[name]:22.6e}" if name in y else f"{name:16} {n:14.6e} {'(condensed)':>22}")
+    return 0 if res.all_converged else 1
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="eqdesign",
+        description="Chemical-equilibrium design from thermodynamic data: K(T), equilibrium "
+                    "compositions, conversion maps. Results support, and do not replace, "
+                    "licensed engineering judgement.")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    p = sub.add_parser("ktable", help="K(T), ΔrH°, ΔrS°, ΔrG° of a reaction over a temperature range")
+    p.add_argument("reaction", help="e.g. 'N2 + 3 H2 = 2 NH3'")
+    p.add_argument("--from", dest="t_low", default="300 K", help="lowest temperature (default 300 K)")
+    p.add_argument("--to", dest="t_high", default="1000 K", help="highest temperature (default 1000 K)")
+    p.add_argument("--points", default=8, type=int, help="number of rows (default 8)")
+    p.set_defaults(func=cmd_ktable)
+    p = sub.add_parser("species", help="data, valid range and source of a species")
+    p.add_argument("name", nargs="?", help="species name or common name, e.g. NH3 or ammonia")
+    p.add_argument("--list", action="store_true", help="list every species in the database")
+    p.set_defaults(func=cmd_species)
+    p = sub.add_parser("point", help="solve one equilibrium state")
+    p.add_argument("--feed", nargs="+", required=True, metavar="NAME=MOL", help="feed, e.g. N2=1 H2=3")
+    p.add_argument("--species", nargs="*", help="further species that may form (all-species mode)")
+    p.add_argument("--reaction", action="append", help="restrict to this reaction (repeatable)")
+    p.add_argument("--temperature", "-T", required=True, help="e.g. '450 degC'")
+    p.add_argument("--pressure", "-P", required=True, help="e.g. '200 bar'")
+    p.add_argument("--gas-model", default="ideal", choices=["ideal", "peng-robinson"])
+    p.add_argument("--json", action="store_true", help="machine-readable output")
+    p.set_defaults(func=cmd_point)
+    return parser
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return EXIT_INPUT
+    try:
+        return args.func(args)
+    except InputProblem as exc:
+        print(f"eqdesign {args.command}: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    except DatabaseError as exc:
+        print(f"eqdesign {args.command}: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

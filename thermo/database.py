@@ -1,0 +1,227 @@
+"""The species database: an explicit object loaded from YAML files of our own layout.
+
+The bundled file ``eqdesign/data/species.yaml`` (see ``data/README.md`` for its layout) is
+read with :mod:`importlib.resources`.  Every set of numbers points at a reference with a
+full citation and, for thermodynamic data, the standard-state pressure of its source; data
+on a 1 atm standard state are converted to the 1 bar standard state used throughout
+eqdesign (for an ideal gas ``s°(1 bar) = s°(1 atm) + R ln(1.01325)``, which shifts K by
+``1.01325^Δn``).
+"""
+from __future__ import annotations
+
+import difflib
+import math
+from dataclasses import dataclass, field
+from importlib import resources
+from pathlib import Path
+from typing import Iterable, Mapping
+
+import yaml
+
+from .elements import molar_mass as molar_mass_of, parse_formula
+from .models import P_STANDARD, FormationDataModel, Nasa7Polynomial
+from .species import GAS, CONDENSED_PHASES, CriticalConstants, Species
+
+
+class DatabaseError(ValueError):
+    """A species file is malformed; the message names the file, the key and the fix."""
+
+
+class UnknownSpeciesError(KeyError):
+    """A species name is not in the database; the message suggests close names."""
+
+    def __str__(self):  # KeyError quotes its argument; we want plain text
+        return str(self.args[0])
+
+
+@dataclass(frozen=True)
+class SpeciesDatabase:
+    """A read-only collection of :class:`Species`, looked up by name or alias.
+
+    Examples
+    --------
+    >>> db = SpeciesDatabase.bundled()
+    >>> db["ammonia"].name
+    'NH3'
+    >>> round(float(db["NH3"].enthalpy(298.15)) / 1000, 2)   # CODATA key value: -45.94 kJ/mol
+    -45.94
+    """
+
+    species: Mapping[str, Species]
+    references: Mapping[str, dict] = field(default_factory=dict)
+    aliases: Mapping[str, str] = field(default_factory=dict)
+    origin: str = ""
+
+    # ----------------------------------------------------------------- loading
+    @classmethod
+    def bundled(cls) -> "SpeciesDatabase":
+        """The database shipped with eqdesign (``eqdesign/data/species.yaml``)."""
+        text = resources.files("eqdesign.data").joinpath("species.yaml").read_text(encoding="utf-8")
+        return cls.from_text(text, origin="eqdesign/data/species.yaml")
+
+    @classmethod
+    def from_file(cls, path: str | Path) -> "SpeciesDatabase":
+        """Load a species file of the eqdesign layout."""
+        path = Path(path)
+        try:
+            text = path.read_text(encoding="utf-8")
+        except OSError as exc:
+            raise DatabaseError(f"{path}: cannot read species file ({exc.strerror})") from None
+        return cls.from_text(text, origin=str(path))
+
+    @classmethod
+    def from_text(cls, text: str, origin: str = "<text>") -> "SpeciesDatabase":
+        try:
+            doc = yaml.load(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))
+        except yaml.YAMLError as exc:
+            raise DatabaseError(f"{origin}: not valid YAML ({exc})") from None
+        if not isinstance(doc, dict) or "species" not in doc:
+            raise DatabaseError(f"{origin}: expected a mapping with a 'species' key")
+        references = doc.get("references") or {}
+        species = {}
+        for name, entry in (doc["species"] or {}).items():
+            species[str(name)] = species_from_mapping(str(name), entry, references, origin)
+        return cls._assemble(species, references, origin)
+
+    @classmethod
+    def _assemble(cls, species: dict, references: Mapping, origin: str) -> "SpeciesDatabase":
+        aliases: dict[str, str] = {}
+        for sp in species.values():
+            for alias in sp.aliases:
+                aliases.setdefault(alias.lower(), sp.name)
+            if sp.common_name:
+                aliases.setdefault(sp.common_name.lower(), sp.name)
+        return cls(species=dict(species), references=dict(references), aliases=aliases, origin=origin)
+
+    def extended(self, extra: Iterable[Species]) -> "SpeciesDatabase":
+        """A new database with ``extra`` species added (they replace same-named entries)."""
+        species = dict(self.species)
+        for sp in extra:
+            species[sp.name] = sp
+        return self._assemble(species, self.references, self.origin)
+
+    # ----------------------------------------------------------------- lookup
+    def resolve(self, name: str) -> str:
+        """The database name for ``name`` (a name or an alias, case-insensitive for aliases)."""
+        if name in self.species:
+            return name
+        key = name.strip().lower()
+        if key in self.aliases:
+            return self.aliases[key]
+        for candidate in self.species:
+            if candidate.lower() == key:
+                return candidate
+        raise UnknownSpeciesError(f"unknown species {name!r}{self._suggest(name)}")
+
+    def _suggest(self, name: str) -> str:
+        pool = list(self.species) + list(self.aliases)
+        close = difflib.get_close_matches(name, pool, n=3, cutoff=0.6)
+        if not close:
+            close = difflib.get_close_matches(name.lower(), [p.lower() for p in pool], n=3, cutoff=0.6)
+        if not close:
+            return " (see `eqdesign species --list` for the names available)"
+        resolved = []
+        for c in close:
+            target = self.aliases.get(c.lower(), c)
+            label = c if target == c else f"{c} ({target})"
+            if label not in resolved:
+                resolved.append(label)
+        return "; did you mean " + " or ".join(repr(r) for r in resolved) + "?"
+
+    def __getitem__(self, name: str) -> Species:
+        return self.species[self.resolve(name)]
+
+    def __contains__(self, name: str) -> bool:
+        try:
+            self.resolve(name)
+        except UnknownSpeciesError:
+            return False
+        return True
+
+    def __iter__(self):
+        return iter(self.species.values())
+
+    def __len__(self):
+        return len(self.species)
+
+    @property
+    def names(self) -> list[str]:
+        return list(self.species)
+
+    def citation(self, key: str) -> str:
+        ref = self.references.get(key, {})
+        return ref.get("cite", key) if isinstance(ref, dict) else str(ref)
+
+
+def _need(entry: Mapping, key: str, where: str, fix: str):
+    if key not in entry:
+        raise DatabaseError(f"{where}: missing key '{key}'; {fix}")
+    return entry[key]
+
+
+def species_from_mapping(name: str, entry: Mapping, references: Mapping, origin: str) -> Species:
+    """Build a :class:`Species` from one entry of a species file (see ``data/README.md``)."""
+    where = f"{origin}: species.{name}"
+    if not isinstance(entry, Mapping):
+        raise DatabaseError(f"{where}: expected a mapping of species data")
+    formula = str(entry.get("formula", name))
+    phase = str(entry.get("phase", GAS))
+    if phase not in (GAS,) + CONDENSED_PHASES:
+        raise DatabaseError(f"{where}.phase: {phase!r} is not one of gas, solid, liquid")
+    if "elements" in entry:
+        elements = {str(k): float(v) for k, v in dict(entry["elements"]).items()}
+    else:
+        try:
+            elements = {k: float(v) for k, v in parse_formula(formula).items()}
+        except ValueError as exc:
+            raise DatabaseError(f"{where}.formula: {exc}; give 'elements' explicitly") from None
+    mass = entry.get("molar_mass")
+    if mass is None:
+        try:
+            mass = molar_mass_of(elements)
+        except ValueError as exc:
+            raise DatabaseError(f"{where}.elements: {exc}") from None
+    thermo = _need(entry, "thermo", where, "add a 'thermo' block (model nasa7 or formation-data)")
+    model = _model_from_mapping(thermo, f"{where}.thermo")
+    ref_key = str(thermo.get("reference", ""))
+    ref = references.get(ref_key, {}) if ref_key else {}
+    p_source = float(ref.get("standard_pressure_Pa", thermo.get("standard_pressure_Pa", P_STANDARD))) \
+        if isinstance(ref, Mapping) else P_STANDARD
+    if phase == GAS and abs(p_source - P_STANDARD) > 1e-6:
+        # ideal-gas entropy at the eqdesign standard pressure (1 bar)
+        model = model.shifted_entropy(math.log(p_source / P_STANDARD))
+    critical = None
+    crit = entry.get("critical")
+    if crit:
+        try:
+            critical = CriticalConstants(float(crit["Tc"]), float(crit["Pc"]), float(crit["omega"]),
+                                         str(crit.get("reference", "")))
+        except KeyError as exc:
+            raise DatabaseError(f"{where}.critical: missing key {exc}; give Tc [K], Pc [Pa] and omega") from None
+    cite = ref.get("cite", ref_key) if isinstance(ref, Mapping) else str(ref)
+    return Species(
+        name=name, formula=formula, elements=elements, phase=phase, molar_mass=float(mass),
+        model=model, critical=critical, reference=cite,
+        common_name=str(entry.get("common_name", "")),
+        aliases=tuple(str(a) for a in entry.get("aliases", ()) or ()),
+        data_note=str(thermo.get("data_note", "")),
+        uncertainty=dict(entry["uncertainty"]) if entry.get("uncertainty") else None,
+    )
+
+
+def _model_from_mapping(thermo: Mapping, where: str):
+    kind = str(_need(thermo, "model", where, "set model: nasa7 or model: formation-data"))
+    try:
+        if kind == "nasa7":
+            return Nasa7Polynomial(tuple(_need(thermo, "T_bounds", where, "give the range bounds in K")),
+                                   _need(thermo, "coefficients", where, "give 7 coefficients per range"))
+        if kind == "formation-data":
+            cp = thermo.get("cp", [0.0])
+            cp = (cp,) if isinstance(cp, (int, float)) else tuple(cp)
+            return FormationDataModel(
+                float(_need(thermo, "formation_enthalpy", where, "give ΔfH°(298.15 K) in J/mol")),
+                float(_need(thermo, "entropy", where, "give S°(298.15 K) in J/(mol K)")),
+                cp, tuple(thermo.get("T_bounds", (298.15, 1500.0))))
+    except (TypeError, ValueError) as exc:
+        raise DatabaseError(f"{where}: {exc}") from None
+    raise DatabaseError(f"{where}.model: unknown model {kind!r}; use nasa7 or formation-data")

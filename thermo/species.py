@@ -1,0 +1,128 @@
+"""Species records: identity, composition, phase, standard-state model, critical constants."""
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass, field
+from typing import Union
+
+import numpy as np
+
+from .models import R, FormationDataModel, Nasa7Polynomial
+
+ThermoModel = Union[Nasa7Polynomial, FormationDataModel]
+
+GAS = "gas"
+CONDENSED_PHASES = ("solid", "liquid")
+
+
+class ExtrapolationWarning(UserWarning):
+    """A temperature lies outside the range over which a species' data were fitted."""
+
+
+@dataclass(frozen=True)
+class CriticalConstants:
+    """Critical temperature Tc [K], critical pressure Pc [Pa], acentric factor omega [-]."""
+
+    Tc: float
+    Pc: float
+    omega: float
+    reference: str = ""
+
+
+@dataclass(frozen=True)
+class Species:
+    """One chemical species in one phase, with its standard-state thermodynamics.
+
+    Parameters
+    ----------
+    name : str
+        Name used in reactions and feeds (``"NH3"``, ``"C(gr)"``).
+    formula : str
+        Chemical formula.
+    elements : dict[str, float]
+        Element counts per molecule.
+    phase : str
+        ``"gas"``, ``"solid"`` or ``"liquid"`` (condensed species are pure phases).
+    molar_mass : float
+        [g/mol].
+    model : Nasa7Polynomial | FormationDataModel
+        Standard-state model on a 1 bar standard state.
+    critical : CriticalConstants | None
+        Needed only for real-gas calculations.
+    reference : str
+        Full citation of the thermodynamic data.
+    """
+
+    name: str
+    formula: str
+    elements: dict
+    phase: str
+    molar_mass: float
+    model: ThermoModel = field(repr=False)
+    critical: CriticalConstants | None = None
+    reference: str = ""
+    common_name: str = ""
+    aliases: tuple = ()
+    data_note: str = ""
+    uncertainty: dict | None = None
+
+    @property
+    def is_gas(self) -> bool:
+        return self.phase == GAS
+
+    @property
+    def T_min(self) -> float:
+        """Lowest temperature of the data [K]."""
+        return self.model.T_min
+
+    @property
+    def T_max(self) -> float:
+        """Highest temperature of the data [K]."""
+        return self.model.T_max
+
+    def check_temperature(self, T) -> bool:
+        """Warn (ExtrapolationWarning, once per species and side) when T leaves the data range.
+
+        Returns True when every temperature lies inside the range.
+        """
+        T = np.asarray(T, dtype=float)
+        inside = True
+        lo, hi = self.T_min, self.T_max
+        # Many NASA fits start at 300 K and are, by the fits' own construction, used at the
+        # 298.15 K reference state; a 2 K margin keeps that silent.
+        if np.any(T < lo - 2.0):
+            inside = False
+            warnings.warn(f"{self.name}: temperatures below {lo:g} K, the lower end of its data "
+                          f"range ({lo:g}-{hi:g} K); values there are extrapolated",
+                          ExtrapolationWarning, stacklevel=3)
+        if np.any(T > hi + 1e-9):
+            inside = False
+            warnings.warn(f"{self.name}: temperatures above {hi:g} K, the upper end of its data "
+                          f"range ({lo:g}-{hi:g} K); values there are extrapolated",
+                          ExtrapolationWarning, stacklevel=3)
+        return inside
+
+    def heat_capacity(self, T):
+        """Standard molar heat capacity cp° [J/(mol K)] at T [K]."""
+        self.check_temperature(T)
+        return self.model.heat_capacity(T)
+
+    def enthalpy(self, T):
+        """Standard molar enthalpy h° [J/mol] (h°(298.15 K) = ΔfH°) at T [K]."""
+        self.check_temperature(T)
+        return self.model.enthalpy(T)
+
+    def entropy(self, T):
+        """Standard molar entropy s° [J/(mol K)] at T [K] and 1 bar."""
+        self.check_temperature(T)
+        return self.model.entropy(T)
+
+    def gibbs(self, T):
+        """Standard molar Gibbs energy g° = h° - T s° [J/mol] at T [K]."""
+        self.check_temperature(T)
+        return R * np.asarray(T, dtype=float) * self.model.gibbs_RT(T)
+
+    def gibbs_RT(self, T):
+        """Dimensionless standard Gibbs energy g°/RT at T [K]."""
+        self.check_temperature(T)
+        return self.model.gibbs_RT(T)
