@@ -1,0 +1,48 @@
+"""Real-gas correction for the equilibrium solver: Peng-Robinson fugacity coefficients.
+
+The gas chemical potential becomes ``μ_i/RT = g°_i/RT + ln(y_i P/P°) + ln φ_i(T, P, y)``
+with ln φ_i from :mod:`eqdesign.thermo.peng_robinson` (Peng and Robinson, Ind. Eng.
+Chem. Fundam. 15 (1976) 59).  The solver holds ln φ fixed within each Newton step and
+updates it from the new composition (successive substitution), so convergence is
+checked on the full real-gas conditions.
+"""
+from __future__ import annotations
+
+from typing import Mapping, Sequence
+
+import numpy as np
+
+from ..thermo.peng_robinson import CubicParameters, binary_interaction_matrix, gas_state
+
+
+class FugacityModel:
+    """Peng-Robinson ln φ for a fixed list of gas species.
+
+    Parameters
+    ----------
+    gas_species : sequence of Species
+        Gas species records; each needs critical constants (a clear error names those
+        that lack them).
+    binary_interaction : mapping, optional
+        ``{("CO2", "H2"): kij}`` overrides of the bundled kij table.
+    """
+
+    def __init__(self, gas_species: Sequence, binary_interaction: Mapping | None = None):
+        names = [sp.name for sp in gas_species]
+        kij = binary_interaction_matrix(names, overrides=dict(binary_interaction or {}))
+        self.names = names
+        self.params = CubicParameters.from_species(gas_species, interaction=kij)
+
+    def state(self, T, P, y_sub, columns):
+        """GasState for compositions ``y_sub`` (k, len(columns)) over species ``columns``."""
+        y = np.zeros((np.shape(y_sub)[0], len(self.names)))
+        y[:, columns] = y_sub
+        return gas_state(self.params, np.asarray(T, dtype=float), np.asarray(P, dtype=float), y)
+
+    def ln_phi(self, T, P, y_sub, columns):
+        """ln φ (k, len(columns)) of the species ``columns`` at compositions ``y_sub``."""
+        return self.state(T, P, y_sub, columns).log_fugacity_coefficients[:, columns]
+
+    def residual_enthalpy(self, T, P, y_sub, columns):
+        """Residual molar enthalpy of the gas [J/mol], shape (k,)."""
+        return self.state(T, P, y_sub, columns).residual_enthalpy
