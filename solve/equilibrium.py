@@ -23,6 +23,7 @@ from scipy.optimize import linprog
 from ..thermo.database import SpeciesDatabase
 from ..thermo.models import P_STANDARD
 from ..thermo.reactions import Reaction, bundled_database
+from ..thermo.species import standard_gibbs_RT
 from ..thermo.units import to_kelvin, to_pascal, to_si
 from .gibbs_core import CoreState, initial_state, minimise_gibbs
 
@@ -385,9 +386,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     Pf = P_b.reshape(n_points)
 
     # standard chemical potentials, (p, ns)
-    g0 = np.empty((n_points, ns))
-    for j, sp in enumerate(records):
-        g0[:, j] = sp.gibbs_RT(Tf)
+    g0 = standard_gibbs_RT(records, Tf)
     is_gas = np.array([sp.is_gas for sp in records])
     if not is_gas.any():
         raise EquilibriumInputError("at least one gas species is needed")

@@ -56,6 +56,61 @@ class CoreOutcome:
     state: CoreState
 
 
+try:  # the compiled kernel (numba); the numpy path below serves real gases and fallbacks
+    from . import compiled_core
+except ImportError:  # pragma: no cover - numba is a declared dependency
+    compiled_core = None
+
+
+def _minimise_compiled(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, state, tolerance, max_iterations,
+                       max_phase_rounds) -> CoreOutcome:
+    """Ideal-gas batch through the compiled kernel: states in order, each warm-started
+    from its neighbour's answer (or from ``state`` when given)."""
+    p, nG = g0_gas.shape
+    nC = g0_cond.shape[1]
+    m = A_gas.shape[0]
+    rounds = max_phase_rounds if max_phase_rounds is not None else 3 * nC + 6
+    out = initial_state(p, nG, nC, m) if state is None else state
+    converged = np.zeros(p, dtype=bool)
+    iterations = np.zeros(p, dtype=np.int64)
+    residual = np.full(p, np.inf)
+    f64 = lambda a: np.ascontiguousarray(a, dtype=float)
+    compiled_core.solve_sweep(
+        f64(g0_gas), f64(g0_cond), f64(A_gas), f64(A_cond), f64(b), f64(ln_p), float(tolerance),
+        int(max_iterations), int(rounds), out.ln_gas, out.ln_total, out.cond, out.present,
+        out.potentials, converged, iterations, residual, state is None)
+    return CoreOutcome(gas=np.exp(out.ln_gas), cond=np.where(out.present, out.cond, 0.0),
+                       present=out.present.copy(), potentials=out.potentials.copy(),
+                       converged=converged, iterations=iterations.astype(int), residual=residual,
+                       state=out)
+
+
+#: Stride of the coarse subset solved first in a large batch; the others start from the
+#: answer of their nearest solved neighbour (in input order, i.e. along the sweep).
+WARM_STRIDE = 8
+
+
+def _warm_start_from_coarse_subset(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, fugacity, tolerance,
+                                   max_iterations, state: CoreState) -> CoreState:
+    """Solve every WARM_STRIDE-th state from RP-1311's estimate, then start every state
+    from its nearest solved neighbour: along a sweep that is close to its own answer, so
+    Newton needs a few iterations instead of many."""
+    p = g0_gas.shape[0]
+    coarse = np.arange(0, p, WARM_STRIDE)
+    sub_fug = None if fugacity is None else (lambda rows, y: fugacity(coarse[rows], y))
+    sub = minimise_gibbs(g0_gas[coarse], g0_cond[coarse], A_gas, A_cond, b[coarse], ln_p[coarse],
+                         state=initial_state(coarse.size, g0_gas.shape[1], g0_cond.shape[1],
+                                             A_gas.shape[0]),
+                         fugacity=sub_fug, tolerance=tolerance, max_iterations=max_iterations)
+    near = np.minimum(np.rint(np.arange(p) / WARM_STRIDE).astype(int), coarse.size - 1)
+    ok = sub.converged[near]
+    for name in ("ln_gas", "cond", "present", "ln_total"):
+        target = getattr(state, name)
+        source = getattr(sub.state, name)[near]
+        target[ok] = source[ok]
+    return state
+
+
 def initial_state(n_points: int, n_gas: int, n_cond: int, m: int, total: float = 1.0) -> CoreState:
     """RP-1311's starting estimate: equal gas amounts, no condensed species."""
     return CoreState(
@@ -95,6 +150,12 @@ def _newton(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, state: CoreState, active, f
 
     Works states-last internally (arrays (n, p)) so every operation covers all states.
     Returns (converged, iterations, residual) for every row; rows not active are untouched.
+
+    Convergence.  For an ideal gas the iteration is Newton's method on the full system,
+    so once a full step (λ = 1) is smaller than ``sqrt(tolerance)`` the error left after
+    it is of the order of the step squared, below ``tolerance``; the conservation
+    residual is checked directly.  With fugacity corrections (successive substitution,
+    linear convergence) the step itself must fall below ``tolerance``.
     """
     p = state.ln_gas.shape[0]
     nG = A_gas.shape[1]
@@ -107,79 +168,97 @@ def _newton(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, state: CoreState, active, f
     idx = np.flatnonzero(active)
     if idx.size == 0:
         return converged, iterations, residual
+    step_tol = tolerance if fugacity is not None else min(np.sqrt(tolerance), 1e-6)
     AA = (A_gas[:, None, :] * A_gas[None, :, :]).reshape(m * m, nG)    # outer products
+    A_gas_T = np.ascontiguousarray(A_gas.T)
     b_scale_all = np.maximum(np.abs(b).sum(axis=1), 1e-300)
 
-    def gather(rows):
-        return (state.ln_gas[rows].T.copy(), state.ln_total[rows].copy(), state.cond[rows].T.copy(),
-                state.present[rows].T.copy(), g0_gas[rows].T.copy(), g0_cond[rows].T.copy(),
-                b[rows].T.copy(), ln_p[rows].copy(), b_scale_all[rows])
-
-    ln_gas, ln_tot, cond, present, g0g, g0c, bb, lnp, bscale = gather(idx)
-    pi = np.zeros((m, idx.size))
+    ln_gas = state.ln_gas[idx].T.copy()
+    ln_tot = state.ln_total[idx].copy()
+    cond = state.cond[idx].T.copy()
+    present = state.present[idx].T.copy()
+    c_gas = (g0_gas[idx] + ln_p[idx, None]).T.copy()        # g°/RT + ln(P/P°), (nG, k)
+    g0c = g0_cond[idx].T.copy()
+    bb = b[idx].T.copy()
+    bscale = b_scale_all[idx]
+    n_j = np.exp(ln_gas)
     eye_c = np.eye(nC)[:, :, None]
     for it in range(max_iterations):
         k = idx.size
-        n_j = np.exp(ln_gas)                                   # (nG, k)
         n_tot = np.exp(ln_tot)
-        mu = g0g + ln_gas - ln_tot + lnp
+        mu = c_gas + ln_gas
+        mu -= ln_tot
         if fugacity is not None:
-            y = n_j / n_j.sum(axis=0)
-            mu = mu + fugacity(idx, y.T).T
+            mu += fugacity(idx, (n_j / n_j.sum(axis=0)).T).T
         An = A_gas @ n_j                                       # (m, k)
-        M = np.zeros((size, size, k))
+        nmu = n_j * mu
+        sum_n = n_j.sum(axis=0)
+        M = np.empty((size, size, k))
         M[:m, :m] = (AA @ n_j).reshape(m, m, k)
+        M[:m, -1] = An
+        M[-1, :m] = An
+        M[-1, -1] = sum_n - n_tot
+        rhs = np.empty((size, k))
+        rhs[:m] = A_gas @ nmu
+        rhs[:m] += bb
+        rhs[:m] -= An
         if nC:
+            rhs[:m] -= A_cond @ cond
             Ac = A_cond[:, :, None] * present[None, :, :]      # (m, nC, k)
             M[:m, m:m + nC] = Ac
             M[m:m + nC, :m] = Ac.transpose(1, 0, 2)
             M[m:m + nC, m:m + nC] = eye_c * (~present)[None, :, :]
-        M[:m, -1] = An
-        M[-1, :m] = An
-        sum_n = n_j.sum(axis=0)
-        M[-1, -1] = sum_n - n_tot
-        nmu = n_j * mu
-        rhs = np.empty((size, k))
-        rhs[:m] = bb - An - A_cond @ cond + A_gas @ nmu
-        if nC:
+            M[m:m + nC, -1] = 0.0
+            M[-1, m:m + nC] = 0.0
             rhs[m:m + nC] = np.where(present, g0c, 0.0)
-        rhs[-1] = n_tot - sum_n + nmu.sum(axis=0)
+        rhs[-1] = nmu.sum(axis=0) + n_tot - sum_n
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             sol = solve_batched(M, rhs)
         pi = sol[:m]
-        d_cond = np.where(present, sol[m:m + nC], 0.0) if nC else sol[m:m]
         d_ln_tot = sol[-1]
-        d_ln_gas = pi.T @ A_gas                                 # (k, nG)
-        d_ln_gas = d_ln_gas.T - mu + d_ln_tot
+        d_ln_gas = A_gas_T @ pi
+        d_ln_gas -= mu
+        d_ln_gas += d_ln_tot
         # --- step control, RP-1311 eqs. (3.1)-(3.3)
         rel = ln_gas - ln_tot
         big = rel > LN_TRACE
-        grow = np.where(big & (d_ln_gas > 0), d_ln_gas, 0.0).max(axis=0)
+        up = d_ln_gas > 0
+        grow = np.where(big & up, d_ln_gas, 0.0).max(axis=0)
         denom1 = np.maximum(5.0 * np.abs(d_ln_tot), grow)
         with np.errstate(divide="ignore", invalid="ignore"):
-            lam1 = 2.0 / denom1
-            ratio = np.abs((-rel - 9.2103404) / (d_ln_gas - d_ln_tot))
-        ratio = np.where((~big) & (d_ln_gas >= 0) & np.isfinite(ratio), ratio, np.inf)
-        lam = np.minimum(1.0, np.minimum(lam1, ratio.min(axis=0)))
+            lam = np.minimum(1.0, 2.0 / denom1)
+            small_up = up & ~big
+            if small_up.any():
+                ratio = np.abs((-rel - 9.2103404) / (d_ln_gas - d_ln_tot))
+                ratio = np.where(small_up & np.isfinite(ratio), ratio, np.inf)
+                lam = np.minimum(lam, ratio.min(axis=0))
         lam = np.where(np.isfinite(lam), lam, 0.0)
-        ln_gas = np.maximum(ln_gas + lam * d_ln_gas, LN_FLOOR)
-        cond = cond + lam * d_cond
+        ln_gas += lam * d_ln_gas
+        np.maximum(ln_gas, LN_FLOOR, out=ln_gas)
         ln_tot = ln_tot + lam * d_ln_tot
+        n_j = np.exp(ln_gas)
         # --- convergence: Newton step sizes and conservation residuals
-        floored = (ln_gas <= LN_FLOOR) & (d_ln_gas < 0)
-        step = np.where(floored, 0.0, np.abs(d_ln_gas)).max(axis=0)
-        step = np.maximum(step, np.abs(d_ln_tot))
+        step = np.abs(d_ln_gas)
+        if (ln_gas <= LN_FLOOR).any():
+            step = np.where((ln_gas <= LN_FLOOR) & (d_ln_gas < 0), 0.0, step)
+        step = np.maximum(step.max(axis=0), np.abs(d_ln_tot))
+        resid = A_gas @ n_j
+        resid -= bb
         if nC:
+            d_cond = np.where(present, sol[m:m + nC], 0.0)
+            cond = cond + lam * d_cond
             step = np.maximum(step, np.abs(d_cond).max(axis=0) / bscale)
-        bal = np.abs(A_gas @ np.exp(ln_gas) + A_cond @ cond - bb).max(axis=0) / bscale
-        res = np.maximum(step, bal)
+            resid += A_cond @ cond
+        bal = np.abs(resid).max(axis=0) / bscale
         iterations[idx] += 1
+        done = (step < step_tol) & (bal < tolerance) & (lam >= 1.0)
+        res = np.where(done, np.maximum(step * step, bal), np.maximum(step, bal))
         residual[idx] = res
-        done = (res < tolerance) & (lam >= 1.0)
         bad = ~np.isfinite(res)
         finished = done | bad
-        if finished.any() or it == max_iterations - 1:
-            sel = finished if it < max_iterations - 1 else np.ones(k, dtype=bool)
+        last = it == max_iterations - 1
+        if finished.any() or last:
+            sel = finished if not last else np.ones(k, dtype=bool)
             rows = idx[sel]
             state.ln_gas[rows] = ln_gas[:, sel].T
             state.ln_total[rows] = ln_tot[sel]
@@ -191,14 +270,15 @@ def _newton(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, state: CoreState, active, f
             if idx.size == 0:
                 break
             ln_gas, ln_tot, cond, present = ln_gas[:, keep], ln_tot[keep], cond[:, keep], present[:, keep]
-            g0g, g0c, bb, lnp, bscale = g0g[:, keep], g0c[:, keep], bb[:, keep], lnp[keep], bscale[keep]
+            c_gas, g0c, bb, bscale, n_j = c_gas[:, keep], g0c[:, keep], bb[:, keep], bscale[keep], n_j[:, keep]
     return converged, iterations, residual
 
 
 def minimise_gibbs(g0_gas: np.ndarray, g0_cond: np.ndarray, A_gas: np.ndarray, A_cond: np.ndarray,
                    b: np.ndarray, ln_p: np.ndarray, *, state: CoreState | None = None,
                    fugacity: Callable | None = None, tolerance: float = 1e-11,
-                   max_iterations: int = 300, max_phase_rounds: int | None = None) -> CoreOutcome:
+                   max_iterations: int = 300, max_phase_rounds: int | None = None,
+                   use_compiled: bool = True) -> CoreOutcome:
     """Minimise G/RT of an ideal (or corrected) gas plus pure condensed species, batched.
 
     Parameters
@@ -226,8 +306,15 @@ def minimise_gibbs(g0_gas: np.ndarray, g0_cond: np.ndarray, A_gas: np.ndarray, A
     p, nG = g0_gas.shape
     nC = g0_cond.shape[1]
     m = A_gas.shape[0]
+    if fugacity is None and use_compiled and compiled_core is not None:
+        return _minimise_compiled(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, state, tolerance,
+                                  max_iterations, max_phase_rounds)
+    cold_start = state is None
     if state is None:
         state = initial_state(p, nG, nC, m, total=1.0)
+        if p >= 4 * WARM_STRIDE:
+            state = _warm_start_from_coarse_subset(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, fugacity,
+                                                   tolerance, max_iterations, state)
     converged = np.zeros(p, dtype=bool)
     iterations = np.zeros(p, dtype=int)
     residual = np.full(p, np.inf)
@@ -270,6 +357,19 @@ def minimise_gibbs(g0_gas: np.ndarray, g0_cond: np.ndarray, A_gas: np.ndarray, A
         if not todo.any():
             break
     converged = converged & settled
+    if cold_start and p >= 4 * WARM_STRIDE and not converged.all():
+        # states that a neighbour's answer led astray start again from RP-1311's estimate
+        bad = np.flatnonzero(~converged)
+        sub_fug = None if fugacity is None else (lambda rows, y: fugacity(bad[rows], y))
+        again = minimise_gibbs(g0_gas[bad], g0_cond[bad], A_gas, A_cond, b[bad], ln_p[bad],
+                               state=initial_state(bad.size, nG, nC, m), fugacity=sub_fug,
+                               tolerance=tolerance, max_iterations=max_iterations,
+                               max_phase_rounds=max_phase_rounds)
+        for name in ("ln_gas", "cond", "present", "ln_total", "potentials"):
+            getattr(state, name)[bad] = getattr(again.state, name)
+        converged[bad] = again.converged
+        iterations[bad] += again.iterations
+        residual[bad] = again.residual
     return CoreOutcome(gas=np.exp(state.ln_gas), cond=np.where(state.present, state.cond, 0.0),
                        present=state.present.copy(), potentials=state.potentials.copy(),
                        converged=converged, iterations=iterations, residual=residual, state=state)

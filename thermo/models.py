@@ -115,9 +115,18 @@ class Nasa7Polynomial:
         return R * self.dimensionless(T)[2]
 
     def gibbs_RT(self, T):
-        """Dimensionless standard Gibbs energy g°/RT = h°/RT - s°/R at T [K]."""
-        _, h, s = self.dimensionless(T)
-        return h - s
+        """Dimensionless standard Gibbs energy g°/RT = h°/RT - s°/R at T [K].
+
+        Evaluated directly (Horner form) since the solver calls it for every state:
+        g/RT = a1 (1 - ln T) - a2 T/2 - a3 T²/6 - a4 T³/12 - a5 T⁴/20 + a6/T - a7.
+        """
+        T = np.asarray(T, dtype=float)
+        if len(self.T_bounds) == 2:
+            a1, a2, a3, a4, a5, a6, a7 = self.coefficients[0]
+        else:
+            a1, a2, a3, a4, a5, a6, a7 = np.moveaxis(self._rows(T), -1, 0)
+        poly = (((-a5 / 20.0 * T - a4 / 12.0) * T - a3 / 6.0) * T - a2 / 2.0) * T
+        return a1 * (1.0 - np.log(T)) + poly + a6 / T - a7
 
     def shifted_entropy(self, delta_s_R: float) -> "Nasa7Polynomial":
         """Same polynomial with s/R shifted by ``delta_s_R`` (standard-pressure change)."""

@@ -126,3 +126,42 @@ class Species:
         """Dimensionless standard Gibbs energy g°/RT at T [K]."""
         self.check_temperature(T)
         return self.model.gibbs_RT(T)
+
+
+def standard_gibbs_RT(species, T) -> np.ndarray:
+    """g°/RT of several species at once, shape (len(T), len(species)).
+
+    NASA polynomials with two ranges (most gases) are evaluated together by
+    broadcasting; other models species by species.  Warns like
+    :meth:`Species.check_temperature` for temperatures outside a species' range.
+
+    Parameters
+    ----------
+    species : sequence of Species
+    T : ndarray, shape (p,)
+        Temperatures [K].
+    """
+    T = np.asarray(T, dtype=float).reshape(-1)
+    out = np.empty((T.size, len(species)))
+    if T.size == 0:
+        return out
+    t_lo, t_hi = T.min(), T.max()
+    pairs = []
+    for j, sp in enumerate(species):
+        if t_lo < sp.T_min - 2.0 or t_hi > sp.T_max + 1e-9:
+            sp.check_temperature(T)
+        m = sp.model
+        if isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 3:
+            pairs.append(j)
+        else:
+            out[:, j] = m.gibbs_RT(T)
+    if pairs:
+        lo = np.array([species[j].model.coefficients[0] for j in pairs])    # (k, 7)
+        hi = np.array([species[j].model.coefficients[1] for j in pairs])
+        mid = np.array([species[j].model.T_bounds[1] for j in pairs])
+        a = np.where((T[:, None] > mid[None, :])[:, :, None], hi[None], lo[None])   # (p, k, 7)
+        Tc = T[:, None]
+        poly = (((-a[..., 4] / 20.0 * Tc - a[..., 3] / 12.0) * Tc - a[..., 2] / 6.0) * Tc
+                - a[..., 1] / 2.0) * Tc
+        out[:, pairs] = a[..., 0] * (1.0 - np.log(Tc)) + poly + a[..., 5] / Tc - a[..., 6]
+    return out

@@ -1,0 +1,326 @@
+"""Compiled per-state kernel of the element-potential method (numba).
+
+The same algorithm as :func:`eqdesign.solve.gibbs_core.minimise_gibbs` — Gordon and
+McBride, NASA RP-1311 (1994): Newton on ln n_j, element potentials, condensed amounts
+and ln n; the step-control factors of its eqs. (3.1)-(3.3); the add/remove test for pure
+condensed species — compiled with numba and run state after state inside one compiled
+loop, each state starting from its neighbour's answer along the sweep (a state that
+does not converge from there is restarted from RP-1311's estimate).  Used for ideal-gas
+batches; real-gas batches use the numpy path, which calls the fugacity model.
+
+numba is a dependency because it makes the solver's inner loop run at compiled speed
+without any C code in the project (see the commit that introduced it).
+"""
+from __future__ import annotations
+
+import numpy as np
+from numba import njit
+
+LN_FLOOR = -690.0
+LN_TRACE = np.log(1e-8)
+
+
+@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+def _linear_solve(M, r, size):
+    """Gaussian elimination with partial pivoting, in place; returns False if singular."""
+    for k in range(size):
+        piv = k
+        best = abs(M[k, k])
+        for i in range(k + 1, size):
+            if abs(M[i, k]) > best:
+                best = abs(M[i, k])
+                piv = i
+        if best == 0.0 or not np.isfinite(best):
+            return False
+        if piv != k:
+            for j in range(size):
+                tmp = M[k, j]
+                M[k, j] = M[piv, j]
+                M[piv, j] = tmp
+            tmp = r[k]
+            r[k] = r[piv]
+            r[piv] = tmp
+        inv = 1.0 / M[k, k]
+        for i in range(k + 1, size):
+            f = M[i, k] * inv
+            if f != 0.0:
+                for j in range(k + 1, size):
+                    M[i, j] -= f * M[k, j]
+                r[i] -= f * r[k]
+    for k in range(size - 1, -1, -1):
+        acc = r[k]
+        for j in range(k + 1, size):
+            acc -= M[k, j] * r[j]
+        r[k] = acc / M[k, k]
+    return True
+
+
+@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+def _newton(c_gas, g0c, A_gas, A_cond, b, bscale, present, ln_gas, ln_tot, cond, pi,
+            tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln):
+    """Newton iterations for one state with the phase set fixed.
+
+    Returns (converged, iterations, residual).  ln_tot is a 1-element array (in/out).
+    """
+    m, nG = A_gas.shape
+    nC = A_cond.shape[1]
+    size = m + nC + 1
+    residual = np.inf
+    for j in range(nG):
+        n_j[j] = np.exp(ln_gas[j])
+    for it in range(max_iterations):
+        lt = ln_tot[0]
+        n_tot = np.exp(lt)
+        sum_n = 0.0
+        for j in range(nG):
+            mu[j] = c_gas[j] + ln_gas[j] - lt
+            sum_n += n_j[j]
+        for i in range(size):
+            for k in range(size):
+                M[i, k] = 0.0
+            r[i] = 0.0
+        sum_nmu = 0.0
+        for j in range(nG):
+            nj = n_j[j]
+            nmu = nj * mu[j]
+            sum_nmu += nmu
+            for i in range(m):
+                aij = A_gas[i, j]
+                if aij != 0.0:
+                    w = aij * nj
+                    for k in range(i, m):
+                        M[i, k] += w * A_gas[k, j]
+                    M[i, size - 1] += w
+                    r[i] += aij * (nmu - nj)
+        for i in range(m):
+            for k in range(i):
+                M[i, k] = M[k, i]
+            M[size - 1, i] = M[i, size - 1]
+            r[i] += b[i]
+            for c in range(nC):
+                r[i] -= A_cond[i, c] * cond[c]
+        for c in range(nC):
+            row = m + c
+            if present[c]:
+                for i in range(m):
+                    M[i, row] = A_cond[i, c]
+                    M[row, i] = A_cond[i, c]
+                r[row] = g0c[c]
+            else:
+                M[row, row] = 1.0
+        M[size - 1, size - 1] = sum_n - n_tot
+        r[size - 1] = n_tot - sum_n + sum_nmu
+        if not _linear_solve(M, r, size):
+            return False, it + 1, np.inf
+        d_tot = r[size - 1]
+        for i in range(m):
+            pi[i] = r[i]
+        # step control, RP-1311 eqs. (3.1)-(3.3)
+        grow = 0.0
+        lam2 = np.inf
+        for j in range(nG):
+            d = -mu[j] + d_tot
+            for i in range(m):
+                d += A_gas[i, j] * r[i]
+            d_ln[j] = d
+            rel = ln_gas[j] - lt
+            if rel > LN_TRACE:
+                if d > grow:
+                    grow = d
+            elif d >= 0.0:
+                den = d - d_tot
+                if den != 0.0:
+                    ratio = abs((-rel - 9.2103404) / den)
+                    if ratio < lam2:
+                        lam2 = ratio
+        denom1 = max(5.0 * abs(d_tot), grow)
+        lam = 1.0
+        if denom1 > 0.0:
+            lam = min(lam, 2.0 / denom1)
+        lam = min(lam, lam2)
+        if not np.isfinite(lam):
+            return False, it + 1, np.inf
+        step = abs(d_tot)
+        for j in range(nG):
+            new = ln_gas[j] + lam * d_ln[j]
+            if new <= LN_FLOOR:
+                new = LN_FLOOR
+            elif abs(d_ln[j]) > step:
+                step = abs(d_ln[j])
+            ln_gas[j] = new
+        ln_tot[0] = lt + lam * d_tot
+        for j in range(nG):
+            n_j[j] = np.exp(ln_gas[j])
+        for c in range(nC):
+            if present[c]:
+                dc = r[m + c]
+                cond[c] += lam * dc
+                if abs(dc) / bscale > step:
+                    step = abs(dc) / bscale
+        bal = 0.0
+        for i in range(m):
+            s = -b[i]
+            for j in range(nG):
+                s += A_gas[i, j] * n_j[j]
+            for c in range(nC):
+                s += A_cond[i, c] * cond[c]
+            if abs(s) > bal:
+                bal = abs(s)
+        bal /= bscale
+        if not (np.isfinite(step) and np.isfinite(bal)):
+            return False, it + 1, np.inf
+        if lam >= 1.0 and step < step_tol and bal < tolerance:
+            return True, it + 1, max(step * step, bal)
+        residual = max(step, bal)
+    return False, max_iterations, residual
+
+
+@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+def _solve_state(c_gas, g0c, A_gas, A_cond, b, ln_gas, ln_tot, cond, present, pi, tolerance,
+                 step_tol, max_iterations, rounds, M, r, n_j, mu, d_ln):
+    """Newton plus the condensed-phase add/remove rounds for one state (RP-1311 §3.5)."""
+    m, nG = A_gas.shape
+    nC = A_cond.shape[1]
+    bscale = 0.0
+    for i in range(m):
+        bscale += abs(b[i])
+    bscale = max(bscale, 1e-300)
+    total_it = 0
+    residual = np.inf
+    for _ in range(rounds):
+        ok, its, residual = _newton(c_gas, g0c, A_gas, A_cond, b, bscale, present, ln_gas, ln_tot,
+                                    cond, pi, tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln)
+        total_it += its
+        if not ok:
+            return False, total_it, residual
+        if nC == 0:
+            return True, total_it, residual
+        worst = -1
+        worst_val = 0.0
+        for c in range(nC):
+            if present[c] and cond[c] <= 0.0 and (worst < 0 or cond[c] < worst_val):
+                worst = c
+                worst_val = cond[c]
+        if worst >= 0:
+            present[worst] = False
+            cond[worst] = 0.0
+            continue
+        best = -1
+        best_val = -1e-9
+        for c in range(nC):
+            if not present[c]:
+                drive = g0c[c]
+                for i in range(m):
+                    drive -= A_cond[i, c] * pi[i]
+                if drive < best_val:
+                    best_val = drive
+                    best = c
+        if best < 0:
+            return True, total_it, residual
+        present[best] = True
+        cond[best] = 0.0
+    return False, total_it, residual
+
+
+@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+def solve_sweep(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, tolerance, max_iterations, rounds,
+                ln_gas_out, ln_tot_out, cond_out, present_out, pi_out, converged, iterations, residual,
+                warm):
+    """Solve every state in order.  With ``warm`` True each starts from the previous
+    converged answer; with ``warm`` False from the values passed in the output arrays.
+    Either way a state that fails is restarted from RP-1311's estimate."""
+    p, nG = g0_gas.shape
+    nC = g0_cond.shape[1]
+    m = A_gas.shape[0]
+    size = m + nC + 1
+    M = np.empty((size, size))
+    r = np.empty(size)
+    n_j = np.empty(nG)
+    mu = np.empty(nG)
+    d_ln = np.empty(nG)
+    c_gas = np.empty(nG)
+    ln_gas = np.empty(nG)
+    ln_tot = np.empty(1)
+    cond = np.empty(nC)
+    present = np.zeros(nC, dtype=np.bool_)
+    pi = np.zeros(m)
+    step_tol = min(np.sqrt(tolerance), 1e-6)
+    have_prev = False
+    have_prev2 = False
+    prev2_gas = np.zeros(nG)
+    prev2_tot = 0.0
+    prev2_present = np.zeros(nC, dtype=np.bool_)
+    prev_gas = np.empty(nG)
+    prev_tot = 0.0
+    prev_cond = np.empty(nC)
+    prev_present = np.zeros(nC, dtype=np.bool_)
+    for q in range(p):
+        for j in range(nG):
+            c_gas[j] = g0_gas[q, j] + ln_p[q]
+        done = False
+        its_all = 0
+        res = np.inf
+        for attempt in range(2):
+            if attempt == 0 and not warm:
+                # start from the values passed in (a previous answer for this same state)
+                for j in range(nG):
+                    ln_gas[j] = ln_gas_out[q, j]
+                ln_tot[0] = ln_tot_out[q]
+                for c in range(nC):
+                    cond[c] = cond_out[q, c]
+                    present[c] = present_out[q, c]
+            elif attempt == 0 and not have_prev:
+                continue
+            elif attempt == 0:
+                # linear extrapolation from the last two answers along the sweep
+                # (plain continuation from the last one after a phase change)
+                same = have_prev2
+                for c in range(nC):
+                    if prev_present[c] != prev2_present[c]:
+                        same = False
+                w = 1.0 if same else 0.0
+                for j in range(nG):
+                    ln_gas[j] = prev_gas[j] + w * (prev_gas[j] - prev2_gas[j])
+                ln_tot[0] = prev_tot + w * (prev_tot - prev2_tot)
+                for c in range(nC):
+                    cond[c] = prev_cond[c]
+                    present[c] = prev_present[c]
+            else:
+                for j in range(nG):
+                    ln_gas[j] = np.log(1.0 / nG)
+                ln_tot[0] = 0.0
+                for c in range(nC):
+                    cond[c] = 0.0
+                    present[c] = False
+            ok, its, res = _solve_state(c_gas, g0_cond[q], A_gas, A_cond, b[q], ln_gas, ln_tot, cond,
+                                        present, pi, tolerance, step_tol, max_iterations, rounds,
+                                        M, r, n_j, mu, d_ln)
+            its_all += its
+            if ok:
+                done = True
+                break
+        converged[q] = done
+        iterations[q] = its_all
+        residual[q] = res
+        for j in range(nG):
+            ln_gas_out[q, j] = ln_gas[j]
+        ln_tot_out[q] = ln_tot[0]
+        for c in range(nC):
+            cond_out[q, c] = cond[c] if present[c] else 0.0
+            present_out[q, c] = present[c]
+        for i in range(m):
+            pi_out[q, i] = pi[i]
+        if done:
+            have_prev2 = have_prev
+            for j in range(nG):
+                prev2_gas[j] = prev_gas[j]
+            prev2_tot = prev_tot
+            for c in range(nC):
+                prev2_present[c] = prev_present[c]
+            have_prev = True
+            for j in range(nG):
+                prev_gas[j] = ln_gas[j]
+            prev_tot = ln_tot[0]
+            for c in range(nC):
+                prev_cond[c] = cond[c]
+                prev_present[c] = present[c]
