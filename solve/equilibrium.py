@@ -21,7 +21,7 @@ import numpy as np
 from scipy.optimize import linprog
 
 from ..thermo.database import SpeciesDatabase
-from ..thermo.models import P_STANDARD
+from ..thermo.models import P_STANDARD, R
 from ..thermo.reactions import Reaction, bundled_database
 from ..thermo.species import standard_gibbs_RT
 from ..thermo.units import to_kelvin, to_pascal, to_si
@@ -301,6 +301,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 key: str | None = None, database: SpeciesDatabase | None = None,
                 binary_interaction: Mapping | None = None, initial: EquilibriumResult | None = None,
                 tolerance: float = 1e-11, max_iterations: int = 300,
+                g0_shift: Mapping[str, object] | None = None,
                 warn: bool = True) -> EquilibriumResult:
     """Equilibrium composition at fixed T and P by Gibbs-energy minimisation.
 
@@ -331,6 +332,9 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
         ``{("CO2", "H2"): kij, ...}`` overriding the bundled Peng-Robinson kij values.
     initial : EquilibriumResult, optional
         A previous result of the same shape to start from (warm start).
+    g0_shift : mapping of str to float or array, optional
+        Shift of a species' standard Gibbs energy [J/mol] at each state (broadcast with
+        T and P), e.g. ``δΔfH° - T δS°`` for uncertainty propagation.
     tolerance : float
         Convergence tolerance on Newton steps (in ln n) and relative conservation residual.
 
@@ -365,7 +369,9 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     T_arr = np.asarray(to_kelvin(T), dtype=float)
     P_arr = np.asarray(to_pascal(P), dtype=float)
     feed_arrays = {db.resolve(k): np.asarray(to_si(v, "amount"), dtype=float) for k, v in feed.items()}
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, *(a.shape for a in feed_arrays.values()))
+    shift_arrays = {db.resolve(k): np.asarray(v, dtype=float) for k, v in (g0_shift or {}).items()}
+    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, *(a.shape for a in feed_arrays.values()),
+                                *(a.shape for a in shift_arrays.values()))
     T_b = np.broadcast_to(T_arr, shape)
     P_b = np.broadcast_to(P_arr, shape)
     if np.any(~np.isfinite(T_b)) or np.any(T_b <= 0):
@@ -387,6 +393,10 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
 
     # standard chemical potentials, (p, ns)
     g0 = standard_gibbs_RT(records, Tf)
+    for name, shift in shift_arrays.items():
+        if name not in names:
+            raise EquilibriumInputError(f"g0_shift names {name!r}, which is not among the species")
+        g0[:, names.index(name)] += np.broadcast_to(shift, shape).reshape(n_points) / (R * Tf)
     is_gas = np.array([sp.is_gas for sp in records])
     if not is_gas.any():
         raise EquilibriumInputError("at least one gas species is needed")
