@@ -244,7 +244,7 @@ def solve_sweep(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, tolerance, max_iteratio
     cond = np.empty(nC)
     present = np.zeros(nC, dtype=np.bool_)
     pi = np.zeros(m)
-    step_tol = min(np.sqrt(tolerance), 1e-6)
+    step_tol = min(np.sqrt(tolerance) * 10.0, 1e-5)
     have_prev = False
     have_prev2 = False
     prev2_gas = np.zeros(nG)
