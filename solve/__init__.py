@@ -1,11 +1,23 @@
 """Equilibrium solver, sweeps and design studies of eqdesign.
 
-Public entry point used by outside checks::
+Public entry points used by outside checks::
 
-    from eqdesign.solve import equilibrium
+    from eqdesign.solve import equilibrium, temperature_for_conversion
 """
+from .design import (
+    CarbonLimit, Crossing, FeedRatioAnswer, PressureAnswer, TemperatureAnswer, carbon_activity,
+    carbon_activity_by_route, carbon_limit, feed_ratio_for_conversion, graphite_stable,
+    pressure_for_conversion, temperature_for_conversion,
+)
 from .equilibrium import (
     EquilibriumInputError, EquilibriumResult, NotConvergedWarning, equilibrium,
 )
+from .sweep import ConversionMap, SweepAxis, conversion_map
 
-__all__ = ["EquilibriumInputError", "EquilibriumResult", "NotConvergedWarning", "equilibrium"]
+__all__ = [
+    "EquilibriumInputError", "EquilibriumResult", "NotConvergedWarning", "equilibrium",
+    "ConversionMap", "SweepAxis", "conversion_map",
+    "CarbonLimit", "Crossing", "FeedRatioAnswer", "PressureAnswer", "TemperatureAnswer",
+    "carbon_activity", "carbon_activity_by_route", "carbon_limit", "feed_ratio_for_conversion",
+    "graphite_stable", "pressure_for_conversion", "temperature_for_conversion",
+]
