@@ -2,12 +2,16 @@
 
 Public entry points used by outside checks::
 
-    from eqdesign.solve import equilibrium, temperature_for_conversion
+    from eqdesign.solve import equilibrium, temperature_for_conversion, adiabatic_equilibrium
 """
 from .design import (
     CarbonLimit, Crossing, FeedRatioAnswer, PressureAnswer, TemperatureAnswer, carbon_activity,
     carbon_activity_by_route, carbon_limit, feed_ratio_for_conversion, graphite_stable,
     pressure_for_conversion, temperature_for_conversion,
+)
+from .energy import (
+    AdiabaticResult, BedRecord, StagedConverterResult, adiabatic_equilibrium, feed_enthalpy,
+    isothermal_duty, mixture_enthalpy, staged_converter,
 )
 from .equilibrium import (
     EquilibriumInputError, EquilibriumResult, NotConvergedWarning, equilibrium,
@@ -17,6 +21,8 @@ from .sweep import ConversionMap, SweepAxis, conversion_map
 __all__ = [
     "EquilibriumInputError", "EquilibriumResult", "NotConvergedWarning", "equilibrium",
     "ConversionMap", "SweepAxis", "conversion_map",
+    "AdiabaticResult", "BedRecord", "StagedConverterResult", "adiabatic_equilibrium",
+    "feed_enthalpy", "isothermal_duty", "mixture_enthalpy", "staged_converter",
     "CarbonLimit", "Crossing", "FeedRatioAnswer", "PressureAnswer", "TemperatureAnswer",
     "carbon_activity", "carbon_activity_by_route", "carbon_limit", "feed_ratio_for_conversion",
     "graphite_stable", "pressure_for_conversion", "temperature_for_conversion",

@@ -145,12 +145,18 @@ def _newton(c_gas, g0c, A_gas, A_cond, b, bscale, present, ln_gas, ln_tot, cond,
             new = ln_gas[j] + lam * d_ln[j]
             if new <= LN_FLOOR:
                 new = LN_FLOOR
-            elif abs(d_ln[j]) > step:
-                step = abs(d_ln[j])
             ln_gas[j] = new
         ln_tot[0] = lt + lam * d_tot
+        inv_tot = np.exp(-ln_tot[0])
         for j in range(nG):
             n_j[j] = np.exp(ln_gas[j])
+            # RP-1311's test weights each log step by the species' share of the gas: the
+            # last full step has set every trace species consistent with the potentials
+            w = n_j[j] * inv_tot
+            if w > 1.0:
+                w = 1.0
+            if w * abs(d_ln[j]) > step:
+                step = w * abs(d_ln[j])
         for c in range(nC):
             if present[c]:
                 dc = r[m + c]

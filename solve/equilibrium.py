@@ -296,6 +296,25 @@ def _reachable(C: np.ndarray, n0: np.ndarray, nonneg: bool) -> np.ndarray:
     return ok
 
 
+def _linear_estimate(g0: np.ndarray, C: np.ndarray, b: np.ndarray, n_gas: int) -> CoreState:
+    """Starting states from ``min Σ g°_j n_j  s.t.  C n = b, n >= 0`` (one small linear
+    program per state; used only for states that failed from the usual starts)."""
+    p, ns = g0.shape
+    state = initial_state(p, n_gas, ns - n_gas, C.shape[0])
+    for q in range(p):          # fallback path only: a handful of states
+        res = linprog(g0[q], A_eq=C, b_eq=b[q], bounds=[(0, None)] * ns, method="highs")
+        if res.status != 0:
+            continue
+        n = np.maximum(res.x, 0.0)
+        total = max(n[:n_gas].sum(), 1e-3 * n.sum(), 1e-12)
+        gas = np.maximum(n[:n_gas], 1e-6 * total)
+        state.ln_gas[q] = np.log(gas)
+        state.ln_total[q] = np.log(gas.sum())
+        state.cond[q] = n[n_gas:]
+        state.present[q] = n[n_gas:] > 1e-12 * n.sum()
+    return state
+
+
 def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 reactions: Sequence[str] | None = None, gas_model: str = "ideal",
                 key: str | None = None, database: SpeciesDatabase | None = None,
@@ -457,13 +476,13 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
         out = minimise_gibbs(g0[rows][:, gas_cols], g0[rows][:, cond_cols], A_gas, A_cond, b,
                              np.log(Pf[rows] / P_STANDARD), state=state, fugacity=fug,
                              tolerance=tolerance, max_iterations=max_iterations)
-        # second chance for stragglers: restart them from a feed-based estimate
+        # second chance for stragglers: restart them from the linear-programming estimate
+        # (minimum of Σ g°_j n_j without the mixing terms, the starting point of White,
+        # Johnson and Dantzig 1958), which also picks the condensed phases a gas alone
+        # could not replace
         bad = np.flatnonzero(~out.converged)
         if bad.size:
-            retry = initial_state(bad.size, gas_cols.size, cond_cols.size, basis.shape[0])
-            feed_gas = n0[rows][bad][:, gas_cols] / scale[bad, None]
-            retry.ln_gas = np.log(np.maximum(feed_gas, 1e-6))
-            retry.ln_total = np.log(np.exp(retry.ln_gas).sum(axis=1))
+            retry = _linear_estimate(g0[rows][bad][:, cols], basis, b[bad], gas_cols.size)
             fug2 = None
             if eos is not None:
                 def fug2(sub, y, _gi=gas_index, _T=Tf[rows][bad], _P=Pf[rows][bad]):

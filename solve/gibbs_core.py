@@ -238,10 +238,9 @@ def _newton(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, state: CoreState, active, f
         ln_tot = ln_tot + lam * d_ln_tot
         n_j = np.exp(ln_gas)
         # --- convergence: Newton step sizes and conservation residuals
-        step = np.abs(d_ln_gas)
-        if (ln_gas <= LN_FLOOR).any():
-            step = np.where((ln_gas <= LN_FLOOR) & (d_ln_gas < 0), 0.0, step)
-        step = np.maximum(step.max(axis=0), np.abs(d_ln_tot))
+        # RP-1311's test: each log step weighted by the species' share of the gas
+        share = np.minimum(n_j * np.exp(-ln_tot), 1.0)
+        step = np.maximum((share * np.abs(d_ln_gas)).max(axis=0), np.abs(d_ln_tot))
         resid = A_gas @ n_j
         resid -= bb
         if nC:
