@@ -17,6 +17,12 @@ from .equilibrium import (
     EquilibriumInputError, EquilibriumResult, NotConvergedWarning, equilibrium,
 )
 from .sweep import ConversionMap, SweepAxis, conversion_map
+from .uncertainty import (
+    Band, EquilibriumUncertainty, TemperatureUncertainty, UncertaintyDefaults,
+    UncertaintyInputError, UncertaintySettings, html_section, ln_K_uncertainty, parameter_map,
+    propagate_equilibrium, ranking_rows, reaction_level_ln_K_uncertainty, settings_from_mapping,
+    species_uncertainty, temperature_interval,
+)
 
 __all__ = [
     "EquilibriumInputError", "EquilibriumResult", "NotConvergedWarning", "equilibrium",
@@ -26,4 +32,8 @@ __all__ = [
     "CarbonLimit", "Crossing", "FeedRatioAnswer", "PressureAnswer", "TemperatureAnswer",
     "carbon_activity", "carbon_activity_by_route", "carbon_limit", "feed_ratio_for_conversion",
     "graphite_stable", "pressure_for_conversion", "temperature_for_conversion",
+    "Band", "EquilibriumUncertainty", "TemperatureUncertainty", "UncertaintyDefaults",
+    "UncertaintyInputError", "UncertaintySettings", "html_section", "ln_K_uncertainty",
+    "parameter_map", "propagate_equilibrium", "ranking_rows", "reaction_level_ln_K_uncertainty",
+    "settings_from_mapping", "species_uncertainty", "temperature_interval",
 ]
