@@ -330,3 +330,311 @@ def solve_sweep(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, tolerance, max_iteratio
             for c in range(nC):
                 prev_cond[c] = cond[c]
                 prev_present[c] = present[c]
+
+
+# ---------------------------------------------------------------- fixed enthalpy and pressure
+@njit(cache=True)
+def _nasa_properties(T, coeffs, bounds, nranges, j):
+    """cp/R, h/RT and g/RT of species j at T from its NASA 7-coefficient rows."""
+    r = 0
+    while r < nranges[j] - 1 and T > bounds[j, r + 1]:
+        r += 1
+    a1 = coeffs[j, r, 0]
+    a2 = coeffs[j, r, 1]
+    a3 = coeffs[j, r, 2]
+    a4 = coeffs[j, r, 3]
+    a5 = coeffs[j, r, 4]
+    a6 = coeffs[j, r, 5]
+    a7 = coeffs[j, r, 6]
+    cp = a1 + T * (a2 + T * (a3 + T * (a4 + T * a5)))
+    h = a1 + T * (a2 / 2.0 + T * (a3 / 3.0 + T * (a4 / 4.0 + T * a5 / 5.0))) + a6 / T
+    s = a1 * np.log(T) + T * (a2 + T * (a3 / 2.0 + T * (a4 / 3.0 + T * a5 / 4.0))) + a7
+    return cp, h, h - s
+
+
+@njit(cache=True)
+def _newton_hp(coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale, present, ln_gas,
+               ln_tot, cond, ln_T, pi, tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln,
+               hg, cpg, hc, cpc):
+    """Newton iterations at fixed enthalpy and pressure for one state, phase set fixed.
+
+    The unknowns of the fixed-temperature problem plus Δln T; the energy equation
+    Σ n_j h_j + Σ n_c h_c = H0 is linearised with d(g°/RT)/d ln T = -h°/RT and
+    d h°/d ln T = cp° T (the enthalpy-pressure problem of NASA RP-1311, Part I, §2.5).
+    ``h0`` is H0/R [K mol]; ``ln_tot`` and ``ln_T`` are 1-element arrays (in/out).
+    """
+    m, nG = A_gas.shape
+    nC = A_cond.shape[1]
+    size = m + nC + 2              # π, Δn_c, Δln n, Δln T
+    iT = size - 1
+    iN = size - 2
+    residual = np.inf
+    for j in range(nG):
+        n_j[j] = np.exp(ln_gas[j])
+    for it in range(max_iterations):
+        T = np.exp(ln_T[0])
+        lt = ln_tot[0]
+        n_tot = np.exp(lt)
+        sum_n = 0.0
+        H = 0.0                    # H/(RT)
+        cp_all = 0.0               # Σ n cp / R
+        for j in range(nG):
+            cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, j)
+            hg[j] = h
+            cpg[j] = cp
+            mu[j] = g + ln_p + ln_gas[j] - lt
+            sum_n += n_j[j]
+            H += n_j[j] * h
+            cp_all += n_j[j] * cp
+        g0c_local = np.empty(nC)
+        for c in range(nC):
+            cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, nG + c)
+            hc[c] = h
+            cpc[c] = cp
+            g0c_local[c] = g
+            if present[c]:
+                H += cond[c] * h
+                cp_all += cond[c] * cp
+        for i in range(size):
+            for k in range(size):
+                M[i, k] = 0.0
+            r[i] = 0.0
+        sum_nmu = 0.0
+        sum_nh = 0.0
+        sum_nhh = 0.0
+        sum_nhmu = 0.0
+        for j in range(nG):
+            nj = n_j[j]
+            nmu = nj * mu[j]
+            nh = nj * hg[j]
+            sum_nmu += nmu
+            sum_nh += nh
+            sum_nhh += nh * hg[j]
+            sum_nhmu += nh * mu[j]
+            for i in range(m):
+                aij = A_gas[i, j]
+                if aij != 0.0:
+                    w = aij * nj
+                    for k in range(i, m):
+                        M[i, k] += w * A_gas[k, j]
+                    M[i, iN] += w
+                    M[i, iT] += w * hg[j]
+                    r[i] += aij * (nmu - nj)
+        for i in range(m):
+            for k in range(i):
+                M[i, k] = M[k, i]
+            M[iN, i] = M[i, iN]
+            M[iT, i] = M[i, iT]
+            r[i] += b[i]
+            for c in range(nC):
+                r[i] -= A_cond[i, c] * cond[c]
+        for c in range(nC):
+            row = m + c
+            if present[c]:
+                for i in range(m):
+                    M[i, row] = A_cond[i, c]
+                    M[row, i] = A_cond[i, c]
+                M[row, iT] = hc[c]
+                M[iT, row] = hc[c]
+                r[row] = g0c_local[c]
+            else:
+                M[row, row] = 1.0
+        M[iN, iN] = sum_n - n_tot
+        M[iN, iT] = sum_nh
+        M[iT, iN] = sum_nh
+        r[iN] = n_tot - sum_n + sum_nmu
+        M[iT, iT] = cp_all + sum_nhh
+        r[iT] = h0 / T - H + sum_nhmu
+        if not _linear_solve(M, r, size):
+            return False, it + 1, np.inf
+        d_tot = r[iN]
+        d_T = r[iT]
+        for i in range(m):
+            pi[i] = r[i]
+        grow = 0.0
+        lam2 = np.inf
+        for j in range(nG):
+            d = -mu[j] + d_tot + hg[j] * d_T
+            for i in range(m):
+                d += A_gas[i, j] * r[i]
+            d_ln[j] = d
+            rel = ln_gas[j] - lt
+            if rel > LN_TRACE:
+                if d > grow:
+                    grow = d
+            elif d >= 0.0:
+                den = d - d_tot
+                if den != 0.0:
+                    ratio = abs((-rel - 9.2103404) / den)
+                    if ratio < lam2:
+                        lam2 = ratio
+        denom1 = max(5.0 * abs(d_tot), 5.0 * abs(d_T), grow)
+        lam = 1.0
+        if denom1 > 0.0:
+            lam = min(lam, 2.0 / denom1)
+        lam = min(lam, lam2)
+        if not np.isfinite(lam):
+            return False, it + 1, np.inf
+        step = max(abs(d_tot), abs(d_T))
+        for j in range(nG):
+            new = ln_gas[j] + lam * d_ln[j]
+            if new <= LN_FLOOR:
+                new = LN_FLOOR
+            ln_gas[j] = new
+        ln_tot[0] = lt + lam * d_tot
+        ln_T[0] += lam * d_T
+        inv_tot = np.exp(-ln_tot[0])
+        for j in range(nG):
+            n_j[j] = np.exp(ln_gas[j])
+            w = min(n_j[j] * inv_tot, 1.0)
+            if w * abs(d_ln[j]) > step:
+                step = w * abs(d_ln[j])
+        for c in range(nC):
+            if present[c]:
+                dc = r[m + c]
+                cond[c] += lam * dc
+                if abs(dc) / bscale > step:
+                    step = abs(dc) / bscale
+        bal = 0.0
+        for i in range(m):
+            s = -b[i]
+            for j in range(nG):
+                s += A_gas[i, j] * n_j[j]
+            for c in range(nC):
+                s += A_cond[i, c] * cond[c]
+            if abs(s) > bal:
+                bal = abs(s)
+        bal /= bscale
+        if not (np.isfinite(step) and np.isfinite(bal)):
+            return False, it + 1, np.inf
+        if lam >= 1.0 and step < step_tol and bal < tolerance:
+            return True, it + 1, max(step * step, bal)
+        residual = max(step, bal)
+    return False, max_iterations, residual
+
+
+@njit(cache=True)
+def solve_sweep_hp(coeffs, bounds, nranges, A_gas, A_cond, b, ln_p, h0, tolerance, max_iterations,
+                   rounds, ln_T_out, ln_gas_out, ln_tot_out, cond_out, present_out, pi_out,
+                   converged, iterations, residual):
+    """Fixed enthalpy and pressure for every state, in order, each starting from its
+    predecessor's answer (temperature and composition); on input ``ln_T_out`` holds
+    the starting temperatures.  A state that fails is restarted from RP-1311's
+    estimate at its starting temperature."""
+    p = b.shape[0]
+    m, nG = A_gas.shape
+    nC = A_cond.shape[1]
+    size = m + nC + 2
+    M = np.empty((size, size))
+    r = np.empty(size)
+    n_j = np.empty(nG)
+    mu = np.empty(nG)
+    d_ln = np.empty(nG)
+    hg = np.empty(nG)
+    cpg = np.empty(nG)
+    hc = np.empty(nC)
+    cpc = np.empty(nC)
+    ln_gas = np.empty(nG)
+    ln_tot = np.empty(1)
+    ln_T = np.empty(1)
+    cond = np.empty(nC)
+    present = np.zeros(nC, dtype=np.bool_)
+    pi = np.zeros(m)
+    # the enthalpy balance is checked by the caller to ~1e-10: keep the final error in
+    # ln T at the square of this step
+    step_tol = min(np.sqrt(tolerance) * 10.0, 1e-7)
+    have_prev = False
+    prev_gas = np.empty(nG)
+    prev_tot = 0.0
+    prev_T = 0.0
+    prev_cond = np.empty(nC)
+    prev_present = np.zeros(nC, dtype=np.bool_)
+    for q in range(p):
+        bscale = 0.0
+        for i in range(m):
+            bscale += abs(b[q, i])
+        bscale = max(bscale, 1e-300)
+        done = False
+        its_all = 0
+        res = np.inf
+        for attempt in range(2):
+            if attempt == 0 and not have_prev:
+                continue
+            if attempt == 0:
+                for j in range(nG):
+                    ln_gas[j] = prev_gas[j]
+                ln_tot[0] = prev_tot
+                ln_T[0] = prev_T
+                for c in range(nC):
+                    cond[c] = prev_cond[c]
+                    present[c] = prev_present[c]
+            else:
+                for j in range(nG):
+                    ln_gas[j] = np.log(1.0 / nG)
+                ln_tot[0] = 0.0
+                ln_T[0] = ln_T_out[q]
+                for c in range(nC):
+                    cond[c] = 0.0
+                    present[c] = False
+            ok = False
+            for _ in range(rounds):
+                ok, its, res = _newton_hp(coeffs, bounds, nranges, ln_p[q], h0[q], A_gas, A_cond,
+                                          b[q], bscale, present, ln_gas, ln_tot, cond, ln_T, pi,
+                                          tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln,
+                                          hg, cpg, hc, cpc)
+                its_all += its
+                if not ok or nC == 0:
+                    break
+                # condensed-phase test at the current temperature (RP-1311 §3.5)
+                T = np.exp(ln_T[0])
+                worst = -1
+                worst_val = 0.0
+                for c in range(nC):
+                    if present[c] and cond[c] <= 0.0 and (worst < 0 or cond[c] < worst_val):
+                        worst = c
+                        worst_val = cond[c]
+                if worst >= 0:
+                    present[worst] = False
+                    cond[worst] = 0.0
+                    ok = False
+                    continue
+                best = -1
+                best_val = -1e-9
+                for c in range(nC):
+                    if not present[c]:
+                        cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, nG + c)
+                        drive = g
+                        for i in range(m):
+                            drive -= A_cond[i, c] * pi[i]
+                        if drive < best_val:
+                            best_val = drive
+                            best = c
+                if best < 0:
+                    break
+                present[best] = True
+                cond[best] = 0.0
+                ok = False
+            if ok:
+                done = True
+                break
+        converged[q] = done
+        iterations[q] = its_all
+        residual[q] = res
+        ln_T_out[q] = ln_T[0]
+        for j in range(nG):
+            ln_gas_out[q, j] = ln_gas[j]
+        ln_tot_out[q] = ln_tot[0]
+        for c in range(nC):
+            cond_out[q, c] = cond[c] if present[c] else 0.0
+            present_out[q, c] = present[c]
+        for i in range(m):
+            pi_out[q, i] = pi[i]
+        if done:
+            have_prev = True
+            for j in range(nG):
+                prev_gas[j] = ln_gas[j]
+            prev_tot = ln_tot[0]
+            prev_T = ln_T[0]
+            for c in range(nC):
+                prev_cond[c] = cond[c]
+                prev_present[c] = present[c]

@@ -514,7 +514,9 @@ def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_
     tolerance : float
         Relative enthalpy tolerance [-].
     max_iterations : int
-        Most equilibrium evaluations per state.
+        Most equilibrium evaluations per state (general path; the compiled
+        fixed-enthalpy path, used for ideal gases with NASA data and no approach
+        margin when this is at least 20, iterates on T inside each Newton step).
     max_step : float
         Largest change of T in one iteration [K].
     warn : bool
@@ -547,6 +549,14 @@ def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_
         raise EquilibriumInputError("approach to equilibrium must be >= 0 K")
     feed_flat = {n: n0[:, k] for k, n in enumerate(names) if np.any(n0[:, k] > 0)}
     rxns = tuple(reactions or ())
+    # the compiled fixed-enthalpy Newton when it applies (it iterates on T inside each
+    # Newton step, so ``max_iterations``, which counts equilibrium evaluations of the
+    # general path below, only needs to allow a normal solve)
+    if gas_model == "ideal" and approach == 0.0 and T_limits is None and max_iterations >= 20:
+        fast = _adiabatic_compiled(db, names, shape, feed_flat, n0, T_in_f, P_f, rxns, key,
+                                   tolerance)
+        if fast is not None:
+            return fast
     common = dict(reactions=rxns or None, gas_model=gas_model, database=db,
                   binary_interaction=binary_interaction, key=key, warn=False)
 
@@ -749,6 +759,44 @@ def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_
         T=shaped(T_out, True), equilibrium=eq, converged=shaped(ok), iterations=shaped(iterations),
         enthalpy_residual=shaped(np.where(ok, residual, np.nan)), T_in=shaped(T_in_f, True),
         P=shaped(P_f, True), inlet_enthalpy=shaped(H_in, True), approach=approach, message=message)
+
+
+def _adiabatic_compiled(db, names, shape, feed_flat, n0, T_in_f, P_f, rxns, key, tolerance):
+    """Ideal gas, NASA data, no approach margin: the fixed-enthalpy Newton of the compiled
+    kernel (temperature as one more unknown; NASA RP-1311 Part I §2.5), every state in one
+    call.  Returns None (the general path then runs) unless every state converged with
+    the enthalpy balance closed to ``tolerance``."""
+    records = [db[n] for n in names]
+    if not all(isinstance(sp.model, Nasa7Polynomial) for sp in records):
+        return None
+    h_in = np.stack([sp.model.enthalpy(T_in_f) for sp in records], axis=1)
+    H_in = (n0 * h_in).sum(axis=1)
+    try:
+        eq = equilibrium(names, {n: v.reshape(shape) for n, v in feed_flat.items()},
+                         T_in_f.reshape(shape), P_f.reshape(shape), reactions=rxns or None,
+                         key=key, database=db, enthalpy=H_in.reshape(shape), tolerance=1e-13,
+                         warn=False)
+    except EquilibriumInputError:
+        return None
+    if not eq.all_converged:
+        return None
+    T_out = np.asarray(eq.T, dtype=float).reshape(-1)
+    amounts = eq.amount_array.reshape(T_out.size, -1)
+    h_out = np.stack([sp.model.enthalpy(T_out) for sp in records], axis=1)
+    H_scale = (n0 * np.abs(h_in)).sum(axis=1) + n0.sum(axis=1) * R * T_in_f
+    residual = np.abs((amounts * h_out).sum(axis=1) - H_in) / H_scale
+    if not np.all(residual <= max(tolerance, 1e-10)):
+        return None
+
+    def shaped(a, scalar_as_float=False):
+        a = np.asarray(a).reshape(shape)
+        return np.float64(a) if (scalar_as_float and shape == ()) else a
+
+    return AdiabaticResult(
+        T=shaped(T_out, True), equilibrium=eq, converged=shaped(np.ones(T_out.size, dtype=bool)),
+        iterations=shaped(np.asarray(eq.iterations).reshape(-1)),
+        enthalpy_residual=shaped(residual), T_in=shaped(T_in_f, True), P=shaped(P_f, True),
+        inlet_enthalpy=shaped(H_in, True), approach=0.0, message="all states converged")
 
 
 # ====================================================================== staged adiabatic beds

@@ -315,13 +315,50 @@ def _linear_estimate(g0: np.ndarray, C: np.ndarray, b: np.ndarray, n_gas: int) -
     return state
 
 
+def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, tolerance, max_iterations):
+    """Run the compiled fixed-enthalpy kernel on one group; returns (CoreOutcome, T)."""
+    from . import compiled_core
+    from .gibbs_core import CoreOutcome
+    from ..thermo.models import Nasa7Polynomial
+    if compiled_core is None or not all(isinstance(sp.model, Nasa7Polynomial) for sp in records):
+        raise EquilibriumInputError("fixed-enthalpy solves need NASA-polynomial data for every "
+                                    "species; use adiabatic_equilibrium for other data")
+    ns = len(records)
+    n_ranges = np.array([sp.model.coefficients.shape[0] for sp in records], dtype=np.int64)
+    coeffs = np.zeros((ns, n_ranges.max(), 7))
+    bounds = np.full((ns, n_ranges.max() + 1), np.inf)
+    for j, sp in enumerate(records):
+        coeffs[j, :n_ranges[j]] = sp.model.coefficients
+        bounds[j, :n_ranges[j] + 1] = sp.model.T_bounds
+    p, nG, nC, m = b.shape[0], A_gas.shape[1], A_cond.shape[1], A_gas.shape[0]
+    state = initial_state(p, nG, nC, m)
+    ln_T = np.log(np.asarray(T_start, dtype=float)).copy()
+    converged = np.zeros(p, dtype=bool)
+    iterations = np.zeros(p, dtype=np.int64)
+    residual = np.full(p, np.inf)
+    f64 = lambda a: np.ascontiguousarray(a, dtype=float)
+    compiled_core.solve_sweep_hp(coeffs, bounds, n_ranges, f64(A_gas), f64(A_cond), f64(b), f64(ln_p),
+                                 f64(h0), float(tolerance), int(max_iterations), 3 * nC + 6, ln_T,
+                                 state.ln_gas, state.ln_total, state.cond, state.present,
+                                 state.potentials, converged, iterations, residual)
+    T = np.exp(ln_T)
+    lo = max(sp.T_min for sp in records)
+    hi = min(sp.T_max for sp in records)
+    converged &= (T >= lo - 2.0) & (T <= hi)      # never an answer outside every species' data
+    out = CoreOutcome(gas=np.exp(state.ln_gas), cond=np.where(state.present, state.cond, 0.0),
+                      present=state.present.copy(), potentials=state.potentials.copy(),
+                      converged=converged, iterations=iterations.astype(int), residual=residual,
+                      state=state)
+    return out, np.where(converged, T, np.nan)
+
+
 def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 reactions: Sequence[str] | None = None, gas_model: str = "ideal",
                 key: str | None = None, database: SpeciesDatabase | None = None,
                 binary_interaction: Mapping | None = None, initial: EquilibriumResult | None = None,
                 tolerance: float = 1e-11, max_iterations: int = 300,
                 g0_shift: Mapping[str, object] | None = None,
-                warn: bool = True) -> EquilibriumResult:
+                enthalpy=None, warn: bool = True) -> EquilibriumResult:
     """Equilibrium composition at fixed T and P by Gibbs-energy minimisation.
 
     The element-potential method of Gordon and McBride (NASA RP-1311, 1994) applied to an
@@ -354,6 +391,12 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     g0_shift : mapping of str to float or array, optional
         Shift of a species' standard Gibbs energy [J/mol] at each state (broadcast with
         T and P), e.g. ``δΔfH° - T δS°`` for uncertainty propagation.
+    enthalpy : float or array, optional
+        Solve at fixed enthalpy and pressure instead: the total enthalpy [J] (formation
+        basis, same amount basis as the feed) at each state; ``T`` is then the starting
+        temperature and the result's ``T`` the equilibrium temperature.  Ideal gas and
+        NASA-polynomial species only (see :func:`eqdesign.solve.adiabatic_equilibrium`
+        for the general case).
     tolerance : float
         Convergence tolerance on Newton steps (in ln n) and relative conservation residual.
 
@@ -389,8 +432,10 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     P_arr = np.asarray(to_pascal(P), dtype=float)
     feed_arrays = {db.resolve(k): np.asarray(to_si(v, "amount"), dtype=float) for k, v in feed.items()}
     shift_arrays = {db.resolve(k): np.asarray(v, dtype=float) for k, v in (g0_shift or {}).items()}
+    H_arr = None if enthalpy is None else np.asarray(to_si(enthalpy, "energy"), dtype=float)
     shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, *(a.shape for a in feed_arrays.values()),
-                                *(a.shape for a in shift_arrays.values()))
+                                *(a.shape for a in shift_arrays.values()),
+                                *(() if H_arr is None else (H_arr.shape,)))
     T_b = np.broadcast_to(T_arr, shape)
     P_b = np.broadcast_to(P_arr, shape)
     if np.any(~np.isfinite(T_b)) or np.any(T_b <= 0):
@@ -407,8 +452,13 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     total_feed = n0.sum(axis=1)
     if np.any(total_feed <= 0):
         raise EquilibriumInputError("the feed is empty (all amounts zero) at some state")
-    Tf = T_b.reshape(n_points)
+    Tf = T_b.reshape(n_points).copy()
     Pf = P_b.reshape(n_points)
+    if H_arr is not None:
+        if gas_model != "ideal" or shift_arrays:
+            raise EquilibriumInputError("fixed-enthalpy solves take the ideal gas and no g0_shift; "
+                                        "use adiabatic_equilibrium for the general case")
+        Hf = np.broadcast_to(H_arr, shape).reshape(n_points)
 
     # standard chemical potentials, (p, ns)
     g0 = standard_gibbs_RT(records, Tf)
@@ -473,26 +523,34 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
 
             def fug(sub, y, _gi=gas_index, _T=Tg, _P=Pg):
                 return eos.ln_phi(_T[sub], _P[sub], y, _gi)
-        out = minimise_gibbs(g0[rows][:, gas_cols], g0[rows][:, cond_cols], A_gas, A_cond, b,
-                             np.log(Pf[rows] / P_STANDARD), state=state, fugacity=fug,
-                             tolerance=tolerance, max_iterations=max_iterations)
-        # second chance for stragglers: restart them from the linear-programming estimate
-        # (minimum of Σ g°_j n_j without the mixing terms, the starting point of White,
-        # Johnson and Dantzig 1958), which also picks the condensed phases a gas alone
-        # could not replace
-        bad = np.flatnonzero(~out.converged)
-        if bad.size:
-            retry = _linear_estimate(g0[rows][bad][:, cols], basis, b[bad], gas_cols.size)
-            fug2 = None
-            if eos is not None:
-                def fug2(sub, y, _gi=gas_index, _T=Tf[rows][bad], _P=Pf[rows][bad]):
-                    return eos.ln_phi(_T[sub], _P[sub], y, _gi)
-            out2 = minimise_gibbs(g0[rows][bad][:, gas_cols], g0[rows][bad][:, cond_cols], A_gas,
-                                  A_cond, b[bad], np.log(Pf[rows][bad] / P_STANDARD), state=retry,
-                                  fugacity=fug2, tolerance=tolerance, max_iterations=max_iterations * 2)
-            for attr in ("gas", "cond", "converged", "residual"):
-                getattr(out, attr)[bad] = getattr(out2, attr)
-            out.iterations[bad] += out2.iterations
+        if H_arr is not None:
+            out, T_solved = _solve_fixed_enthalpy([records[c] for c in cols], A_gas, A_cond, b,
+                                                  np.log(Pf[rows] / P_STANDARD),
+                                                  Hf[rows] / (R * scale), Tf[rows], tolerance,
+                                                  max_iterations)
+            Tf[rows] = T_solved
+            g0[rows] = standard_gibbs_RT(records, T_solved)
+        else:
+            out = minimise_gibbs(g0[rows][:, gas_cols], g0[rows][:, cond_cols], A_gas, A_cond, b,
+                                 np.log(Pf[rows] / P_STANDARD), state=state, fugacity=fug,
+                                 tolerance=tolerance, max_iterations=max_iterations)
+            # second chance for stragglers: restart them from the linear-programming estimate
+            # (minimum of Σ g°_j n_j without the mixing terms, the starting point of White,
+            # Johnson and Dantzig 1958), which also picks the condensed phases a gas alone
+            # could not replace
+            bad = np.flatnonzero(~out.converged)
+            if bad.size:
+                retry = _linear_estimate(g0[rows][bad][:, cols], basis, b[bad], gas_cols.size)
+                fug2 = None
+                if eos is not None:
+                    def fug2(sub, y, _gi=gas_index, _T=Tf[rows][bad], _P=Pf[rows][bad]):
+                        return eos.ln_phi(_T[sub], _P[sub], y, _gi)
+                out2 = minimise_gibbs(g0[rows][bad][:, gas_cols], g0[rows][bad][:, cond_cols], A_gas,
+                                      A_cond, b[bad], np.log(Pf[rows][bad] / P_STANDARD), state=retry,
+                                      fugacity=fug2, tolerance=tolerance, max_iterations=max_iterations * 2)
+                for attr in ("gas", "cond", "converged", "residual"):
+                    getattr(out, attr)[bad] = getattr(out2, attr)
+                out.iterations[bad] += out2.iterations
         sol = np.zeros((rows.size, ns))
         sol[:, gas_cols] = out.gas * scale[:, None]
         sol[:, cond_cols] = out.cond * scale[:, None]
@@ -514,7 +572,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
         warnings.warn(message, NotConvergedWarning, stacklevel=2)
     return EquilibriumResult(
         species=tuple(names), phases=tuple(sp.phase for sp in records),
-        T=T_b.copy() if shape else np.float64(Tf[0]), P=P_b.copy() if shape else np.float64(Pf[0]),
+        T=Tf.reshape(shape).copy() if shape else np.float64(Tf[0]), P=P_b.copy() if shape else np.float64(Pf[0]),
         amount_array=amounts.reshape(shape + (ns,)), feed_array=n0.reshape(shape + (ns,)),
         converged=converged.reshape(shape), iterations=iterations.reshape(shape),
         max_residual=residual.reshape(shape), g0_RT=g0.reshape(shape + (ns,)), reactions=rxns,

@@ -19,6 +19,7 @@ _DIMENSIONS = {
     "temperature": ("K", "[temperature]"),
     "pressure": ("Pa", "[mass] / [length] / [time] ** 2"),
     "amount": ("mol", "[substance]"),
+    "energy": ("J", "[mass] * [length] ** 2 / [time] ** 2"),
     "molar_energy": ("J/mol", "[mass] * [length] ** 2 / [time] ** 2 / [substance]"),
     "molar_entropy": ("J/mol/K", "[mass] * [length] ** 2 / [time] ** 2 / [substance] / [temperature]"),
     "molar_flow": ("mol/s", "[substance] / [time]"),
