@@ -4,6 +4,7 @@ Public entry points used by outside checks::
 
     from eqdesign.solve import equilibrium, temperature_for_conversion, adiabatic_equilibrium
 """
+from .cases import Case, CaseError, CaseProblem, load_case, parse_case
 from .design import (
     CarbonLimit, Crossing, FeedRatioAnswer, PressureAnswer, TemperatureAnswer, carbon_activity,
     carbon_activity_by_route, carbon_limit, feed_ratio_for_conversion, graphite_stable,
@@ -16,6 +17,7 @@ from .energy import (
 from .equilibrium import (
     EquilibriumInputError, EquilibriumResult, NotConvergedWarning, equilibrium,
 )
+from .runner import OutputExistsError, RunResult, run_case, write_outputs
 from .sweep import ConversionMap, SweepAxis, conversion_map
 from .uncertainty import (
     Band, EquilibriumUncertainty, TemperatureUncertainty, UncertaintyDefaults,
@@ -32,6 +34,8 @@ __all__ = [
     "CarbonLimit", "Crossing", "FeedRatioAnswer", "PressureAnswer", "TemperatureAnswer",
     "carbon_activity", "carbon_activity_by_route", "carbon_limit", "feed_ratio_for_conversion",
     "graphite_stable", "pressure_for_conversion", "temperature_for_conversion",
+    "Case", "CaseError", "CaseProblem", "load_case", "parse_case",
+    "OutputExistsError", "RunResult", "run_case", "write_outputs",
     "Band", "EquilibriumUncertainty", "TemperatureUncertainty", "UncertaintyDefaults",
     "UncertaintyInputError", "UncertaintySettings", "html_section", "ln_K_uncertainty",
     "parameter_map", "propagate_equilibrium", "ranking_rows", "reaction_level_ln_K_uncertainty",

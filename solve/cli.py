@@ -5,8 +5,11 @@ Subcommands (each has ``--help``):
 * ``eqdesign ktable REACTION``  K(T), ΔrH°, ΔrS°, ΔrG° over a temperature range
 * ``eqdesign species NAME``     data, valid range and source of a species (``--list`` for all)
 * ``eqdesign point ...``        one equilibrium state, as a table or ``--json``
+* ``eqdesign check CASE``       check a case file completely, run nothing
+* ``eqdesign run CASE``         run a case file's studies into an output folder (report, CSV, figures)
 
-Bad input gives one message naming what is wrong and how to fix it, exit status 2.
+Bad input gives one message per problem naming what is wrong and how to fix it, exit status 2,
+and nothing is written.
 """
 from __future__ import annotations
 
@@ -14,7 +17,9 @@ import argparse
 import json
 import math
 import sys
+import time
 import warnings
+from pathlib import Path
 
 import numpy as np
 
@@ -168,6 +173,106 @@ def cmd_point(args) -> int:
     return 0 if res.all_converged else 1
 
 
+class ProgressBar:
+    """Text progress bars on a stream (stderr): one bar per sweep, redrawn in place on a
+    terminal and printed once, complete, when the stream is a file or pipe."""
+
+    WIDTH = 30
+
+    def __init__(self, stream=None, enabled: bool = True):
+        self.stream = stream or sys.stderr
+        self.enabled = enabled
+        self.tty = bool(getattr(self.stream, "isatty", lambda: False)())
+
+    def __call__(self, label: str):
+        t0 = time.perf_counter()
+
+        def update(done: int, total: int) -> None:
+            if not self.enabled or total <= 0:
+                return
+            if not self.tty and done < total:
+                return
+            filled = int(round(self.WIDTH * done / total))
+            bar = "#" * filled + "." * (self.WIDTH - filled)
+            text = f"  {label[:40]:<40} [{bar}] {done}/{total} points {time.perf_counter() - t0:5.1f} s"
+            end = "\n" if done >= total else ""
+            self.stream.write(("\r" if self.tty else "") + text + end)
+            self.stream.flush()
+
+        return update
+
+    def status(self, text: str) -> None:
+        if self.enabled:
+            self.stream.write(f"  {text}\n")
+            self.stream.flush()
+
+
+def _load_case(path: str):
+    from .cases import CaseError, load_case
+    try:
+        return load_case(path)
+    except CaseError as exc:
+        raise CaseProblems(exc.problems) from None
+
+
+class CaseProblems(Exception):
+    """Problems in a case file: printed one per line, exit status 2."""
+
+    def __init__(self, problems):
+        self.problems = tuple(problems)
+        super().__init__("\n".join(str(p) for p in self.problems))
+
+
+def cmd_check(args) -> int:
+    case = _load_case(args.case)
+    print(case.summary())
+    return 0
+
+
+def default_output_folder(case_path: str) -> Path:
+    """``<case file stem>_results`` in the current folder.
+
+    >>> str(default_output_folder("cases/shift_converters.yaml"))
+    'shift_converters_results'
+    """
+    return Path(f"{Path(case_path).stem}_results")
+
+
+def cmd_run(args) -> int:
+    from .equilibrium import EquilibriumInputError
+    from .runner import OutputExistsError, check_output_folder, run_case, write_outputs
+    case = _load_case(args.case)
+    outdir = Path(args.output) if args.output else default_output_folder(args.case)
+    try:
+        check_output_folder(outdir, args.force)
+    except OutputExistsError as exc:
+        raise InputProblem(str(exc)) from None
+    bar = ProgressBar(sys.stderr, enabled=not args.quiet)
+    if not args.quiet:
+        print(f"eqdesign run: {case.file}: {case.title}" + (" (reduced resolution)" if args.coarse else ""),
+              file=sys.stderr)
+    try:
+        result = run_case(case, coarse=args.coarse, progress=bar, status=bar.status)
+    except (EquilibriumInputError, ReactionError, UnitError) as exc:
+        raise InputProblem(f"{case.file}: {exc} (the case check did not catch this; please report it)") from None
+    try:
+        written = write_outputs(result, outdir, force=args.force)
+    except OutputExistsError as exc:
+        raise InputProblem(str(exc)) from None
+    print(f"Results of {case.file} in {outdir}/ ({len(written)} files, {result.elapsed:.1f} s)")
+    if case.output.report:
+        print(f"  report: {outdir / 'report.html'}")
+    for line in result.findings:
+        print(f"  - {line}")
+    if result.flagged:
+        print(f"  WARNING: {result.flagged} point(s) did not converge; they are blank in the tables "
+              "(see the report's solver diagnostics)")
+    if result.extrapolations:
+        print(f"  WARNING: species data were extrapolated ({len(result.extrapolations)} warning(s); see the "
+              "report's data provenance)")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="eqdesign",
@@ -194,6 +299,23 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--gas-model", default="ideal", choices=["ideal", "peng-robinson"])
     p.add_argument("--json", action="store_true", help="machine-readable output")
     p.set_defaults(func=cmd_point)
+    p = sub.add_parser("check", help="check a case file completely without running it",
+                       description="Read and check a case file (layout eqdesign-case/1): every problem is "
+                                   "reported with the file, the key path and the fix; exit status 2 if any.")
+    p.add_argument("case", help="case file, e.g. cases/ammonia_loop_pressure_options.yaml")
+    p.set_defaults(func=cmd_check)
+    p = sub.add_parser("run", help="run a case file's studies into an output folder",
+                       description="Check a case file, run its studies and write report.html, CSV tables, "
+                                   "PNG/SVG figures and a copy of the case into a new folder. Nothing is "
+                                   "written if the case has a problem or the run is interrupted.")
+    p.add_argument("case", help="case file, e.g. cases/ammonia_loop_pressure_options.yaml")
+    p.add_argument("-o", "--output", metavar="OUTDIR",
+                   help="output folder (default: <case name>_results in the current folder)")
+    p.add_argument("--force", action="store_true", help="replace the output folder if it exists")
+    p.add_argument("--coarse", action="store_true",
+                   help="reduced resolution for a quick look (thinner grids; the report says so)")
+    p.add_argument("--quiet", "-q", action="store_true", help="no progress bars")
+    p.set_defaults(func=cmd_run)
     return parser
 
 
@@ -211,6 +333,16 @@ def main(argv=None) -> int:
     except DatabaseError as exc:
         print(f"eqdesign {args.command}: {exc}", file=sys.stderr)
         return EXIT_INPUT
+    except CaseProblems as exc:
+        if len(exc.problems) > 1:
+            print(f"eqdesign {args.command}: {len(exc.problems)} problems; nothing was run or written",
+                  file=sys.stderr)
+        for problem in exc.problems:
+            print(f"eqdesign {args.command}: {problem}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print(f"eqdesign {args.command}: interrupted; no output folder was written", file=sys.stderr)
+        return 130
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,0 +1,911 @@
+"""Run a validated case: every study, its tables and figures, then the output folder.
+
+    from eqdesign.solve.cases import load_case
+    from eqdesign.solve.runner import run_case, write_outputs
+    result = run_case(load_case("cases/ammonia_loop_pressure_options.yaml"))
+    write_outputs(result, "ammonia_results")
+
+:func:`run_case` computes and draws, writing nothing; :func:`write_outputs` writes the
+report, CSV tables, figures and a copy of the case into a new folder.  The folder is built
+under a temporary name beside the target and renamed into place only when complete, and
+each file in it is written to a temporary file and moved with :func:`os.replace`: an
+interrupted run leaves neither a half-written file nor a half-filled folder.  An
+existing, non-empty folder is replaced only with ``force=True``.
+"""
+from __future__ import annotations
+
+import csv
+import hashlib
+import io
+import json
+import math
+import os
+import shutil
+import tempfile
+import time
+import warnings
+from dataclasses import dataclass, field
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Callable
+
+import numpy as np
+
+from ..thermo.reactions import Reaction
+from ..thermo.species import ExtrapolationWarning
+from . import plots
+from .cases import LOW_T_MARGIN, Case, FeedRatio
+from .equilibrium import NotConvergedWarning, equilibrium
+
+ZERO_CELSIUS = 273.15
+#: Reduced resolution (``coarse=True``): at most this many temperatures in a grid.
+COARSE_POINTS = 13
+
+ProgressFactory = Callable[[str], Callable[[int, int], None]]
+
+
+class OutputExistsError(FileExistsError):
+    """The output folder exists and is not empty, and ``force`` was not given."""
+
+
+# ============================================================================ records
+@dataclass
+class Table:
+    """A results table: CSV file ``<name>.csv`` and a table in the report.
+
+    ``columns`` carry their units, e.g. ``"T [degC]"``; ``rows`` hold floats, ints, bools
+    or text.  ``html_every`` shows every n-th row in the report (the CSV has them all).
+    """
+
+    name: str
+    title: str
+    columns: list
+    rows: list
+    note: str = ""
+    html_every: int = 1
+    in_report: bool = True
+
+
+@dataclass
+class FigureRecord:
+    """A figure: ``<name>.png`` / ``<name>.svg`` and an embedded image in the report."""
+
+    name: str
+    title: str
+    caption: str
+    figure: object = field(repr=False)
+
+
+@dataclass
+class SolverCheck:
+    """Diagnostics of one study's solves."""
+
+    study: str
+    points: int
+    flagged: int
+    largest_residual: float
+    note: str = ""
+
+
+@dataclass
+class RunResult:
+    """Everything a run produced, before anything is written."""
+
+    case: Case
+    started: str
+    elapsed: float
+    coarse: bool
+    tables: list
+    figures: list
+    findings: list
+    checks: list
+    extrapolations: list
+    notes: list
+    T_used: tuple                   # (lowest, highest) temperature evaluated [K]
+    study_times: dict = field(default_factory=dict)
+
+    @property
+    def flagged(self) -> int:
+        return sum(c.flagged for c in self.checks)
+
+    @property
+    def largest_residual(self) -> float:
+        vals = [c.largest_residual for c in self.checks if np.isfinite(c.largest_residual)]
+        return max(vals) if vals else float("nan")
+
+    def table(self, name: str) -> Table:
+        for t in self.tables:
+            if t.name == name:
+                return t
+        raise KeyError(name)
+
+
+# ============================================================================ helpers
+def _c(T):
+    return np.asarray(T, dtype=float) - ZERO_CELSIUS
+
+
+def _bar(P):
+    return np.asarray(P, dtype=float) / 1e5
+
+
+def _pct(x: float) -> str:
+    return "n/a" if not np.isfinite(x) else f"{100 * x:.2f} %"
+
+
+def _fmt_T(T: float) -> str:
+    return "n/a" if not np.isfinite(T) else f"{T - ZERO_CELSIUS:.1f} degC ({T:.1f} K)"
+
+
+def _api_ratio(fr: FeedRatio):
+    """The ratio in the form the sweep and design functions take."""
+    if fr.per == "carbon":
+        return "steam_to_carbon"
+    return (fr.vary, fr.per)
+
+
+def _subsample(values: np.ndarray, n: int) -> np.ndarray:
+    """At most n values of a grid, keeping both ends."""
+    if values.size <= n:
+        return values
+    idx = np.unique(np.round(np.linspace(0, values.size - 1, n)).astype(int))
+    return values[idx]
+
+
+class _Recorder:
+    """Collects the temperatures evaluated and the warnings raised during a study."""
+
+    def __init__(self):
+        self.T_min = math.inf
+        self.T_max = -math.inf
+        self.extrapolations: list[str] = []
+        self.not_converged: list[str] = []
+
+    def temperatures(self, T) -> None:
+        T = np.asarray(T, dtype=float)
+        T = T[np.isfinite(T)]
+        if T.size:
+            self.T_min = min(self.T_min, float(T.min()))
+            self.T_max = max(self.T_max, float(T.max()))
+
+    def take(self, caught) -> None:
+        for w in caught:
+            text = str(w.message)
+            if issubclass(w.category, ExtrapolationWarning):
+                if text not in self.extrapolations:
+                    self.extrapolations.append(text)
+            elif issubclass(w.category, NotConvergedWarning):
+                if text not in self.not_converged:
+                    self.not_converged.append(text)
+
+
+class _Study:
+    """Context manager: records warnings and the elapsed time of one study."""
+
+    def __init__(self, recorder: _Recorder, times: dict, name: str, status: Callable[[str], None] | None):
+        self.recorder, self.times, self.name, self.status = recorder, times, name, status
+
+    def __enter__(self):
+        self.t0 = time.perf_counter()
+        self._cm = warnings.catch_warnings(record=True)
+        self.caught = self._cm.__enter__()
+        warnings.simplefilter("always")
+        return self
+
+    def __exit__(self, *exc):
+        self._cm.__exit__(*exc)
+        self.recorder.take(self.caught)
+        self.times[self.name] = self.times.get(self.name, 0.0) + time.perf_counter() - self.t0
+        if self.status and exc[0] is None:
+            self.status(f"{self.name}: done in {self.times[self.name]:.1f} s")
+        return False
+
+
+# ============================================================================ the run
+def run_case(case: Case, *, coarse: bool = False, progress: ProgressFactory | None = None,
+             status: Callable[[str], None] | None = None) -> RunResult:
+    """Run every study of a validated case; compute tables and figures, write nothing.
+
+    Parameters
+    ----------
+    case : Case
+        From :func:`eqdesign.solve.cases.load_case`.
+    coarse : bool
+        Reduced resolution for a quick look (at most 13 temperatures per grid, fewer
+        ratios); the report says so.
+    progress : callable(label) -> callable(done, total), optional
+        Makes a progress callback for each sweep (the command line draws a bar).
+    status : callable(text), optional
+        Receives one line per finished study.
+
+    Returns
+    -------
+    RunResult
+    """
+    started = datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M:%S UTC")
+    t0 = time.perf_counter()
+    rec = _Recorder()
+    times: dict = {}
+    run = _Run(case, coarse, progress, status, rec, times)
+    run.equilibrium_constants()
+    s = case.studies
+    if s.conversion_map:
+        run.conversion_map()
+    if s.targets:
+        run.targets()
+    if s.conversion_map:
+        run.conversion_figures()
+    if s.pressure_options:
+        run.pressure_options()
+    if s.staged_beds:
+        run.staged_beds()
+    if s.carbon_limit:
+        run.carbon_limit()
+    run.provenance_table()
+    run.diagnostics_table()
+    return RunResult(case=case, started=started, elapsed=time.perf_counter() - t0, coarse=coarse,
+                     tables=run.tables, figures=run.figures, findings=run.findings, checks=run.checks,
+                     extrapolations=rec.extrapolations, notes=run.notes + rec.not_converged,
+                     T_used=(rec.T_min, rec.T_max), study_times=times)
+
+
+class _Run:
+    def __init__(self, case: Case, coarse, progress, status, rec: _Recorder, times: dict):
+        self.case = case
+        self.db = case.database
+        self.coarse = coarse
+        self.progress = progress
+        self.status = status
+        self.rec = rec
+        self.times = times
+        self.tables: list[Table] = []
+        self.figures: list[FigureRecord] = []
+        self.findings: list[str] = []
+        self.checks: list[SolverCheck] = []
+        self.notes: list[str] = []
+        self.T_grid = case.temperature.values()
+        if coarse:
+            self.T_grid = _subsample(self.T_grid, COARSE_POINTS)
+        self.map = None
+        self.ratio_map = None
+        self.design_points: list = []
+        self.target_line = None
+
+    # --------------------------------------------------------------- shared
+    def study(self, name: str) -> _Study:
+        return _Study(self.rec, self.times, name, self.status)
+
+    def common(self) -> dict:
+        c = self.case
+        return dict(reactions=c.solver_reactions, gas_model=c.gas_model, approach=c.approach or None,
+                    database=self.db)
+
+    def callback(self, label: str):
+        return self.progress(label) if self.progress else None
+
+    def _map(self, label: str, *, T, P, feed_ratio: FeedRatio | None = None, gas_model=None, ratios=None):
+        from .sweep import conversion_map
+        c = self.case
+        kw = self.common()
+        if gas_model:
+            kw["gas_model"] = gas_model
+        T = np.atleast_1d(np.asarray(T, dtype=float))
+        P = np.atleast_1d(np.asarray(P, dtype=float))
+        if feed_ratio is not None:
+            values = np.asarray(ratios if ratios is not None else feed_ratio.values, dtype=float)
+            if feed_ratio.per == "carbon":
+                kw["steam_to_carbon"] = values
+            else:
+                kw["feed_ratio"] = (feed_ratio.vary, feed_ratio.per, values)
+            n_extra = values.size
+        else:
+            n_extra = 1
+        n = T.size * P.size * n_extra
+        m = conversion_map(list(c.species), c.feed, T=T, P=P, key=c.key, product=c.product,
+                           progress=self.callback(label), chunk=max(50, -(-n // 25)), **kw)
+        self.rec.temperatures(m.T_equilibrium)
+        self.check_map(label, m, kw)
+        return m
+
+    def check_map(self, label: str, m, kw: dict) -> None:
+        """Solver diagnostics of a map: re-solve its states at their equilibrium
+        temperatures in one batched call for the residuals and iteration counts, and
+        compare the conversions (they must agree)."""
+        c = self.case
+        ok = np.asarray(m.converged).reshape(-1)
+        T_eq = np.asarray(m.T_equilibrium, dtype=float).reshape(-1)
+        P = np.asarray(m.P, dtype=float).reshape(-1)
+        feed = {k: np.broadcast_to(np.asarray(v, dtype=float), m.shape).reshape(-1) for k, v in m.feed.items()}
+        largest = float("nan")
+        note = ""
+        if ok.any():
+            sel = np.flatnonzero(ok)
+            res = equilibrium(list(c.species), {k: v[sel] for k, v in feed.items()}, T_eq[sel], P[sel],
+                              reactions=kw.get("reactions"), gas_model=kw.get("gas_model", c.gas_model),
+                              key=c.key, database=self.db, warn=False)
+            good = np.asarray(res.converged)
+            if good.any():
+                largest = float(np.max(np.asarray(res.max_residual)[good]))
+                x_map = np.asarray(m.conversion).reshape(-1)[sel][good]
+                dx = float(np.max(np.abs(np.asarray(res.conversion(c.key))[good] - x_map)))
+                note = (f"re-solved independently: largest change in conversion {dx:.1e}; "
+                        f"Newton iterations up to {int(np.max(np.asarray(res.iterations)[good]))}")
+        self.checks.append(SolverCheck(label, int(ok.size), int(ok.size - ok.sum()), largest, note))
+
+    def add_table(self, table: Table) -> None:
+        self.tables.append(table)
+
+    def add_figure(self, name, title, caption, fig) -> None:
+        self.figures.append(FigureRecord(name, title, caption, fig))
+
+    # --------------------------------------------------------------- K(T)
+    def equilibrium_constants(self) -> None:
+        c = self.case
+        if not c.reactions:
+            return
+        with self.study("equilibrium constants"):
+            T = np.linspace(c.temperature.low, c.temperature.high, 41 if not self.coarse else 11)
+            rxns = [(name, Reaction.parse(text, self.db)) for name, text in c.reactions]
+            cols = ["T [degC]", "T [K]", "1000 K/T [-]"]
+            data = [_c(T), T, 1000.0 / T]
+            series = []
+            for name, r in rxns:
+                lnK = np.asarray(r.ln_K(T), dtype=float)
+                dH = np.asarray(r.delta_h(T), dtype=float) / 1000.0
+                series.append((f"{name}: {r.text}", lnK))
+                cols += [f"ln K {name} [-]", f"K {name} [-]", f"reaction enthalpy {name} [kJ/mol]"]
+                data += [lnK, np.exp(lnK), dH]
+            self.rec.temperatures(T)
+            rows = [list(row) for row in np.column_stack(data)]
+            self.add_table(Table("equilibrium_constants", "Equilibrium constants of the named reactions "
+                                 "(dimensionless K, standard state 1 bar)", cols, rows,
+                                 html_every=max(1, len(rows) // 10)))
+            self.add_figure("ln_k_vs_inverse_temperature", "ln K against 1000/T",
+                            "Equilibrium constant of each named reaction from the species data (Gibbs route, "
+                            "standard state 1 bar). A falling line (ln K down as T rises) means an exothermic "
+                            "reaction.", plots.ln_k_against_inverse_temperature(T, series))
+
+    # --------------------------------------------------------------- conversion map
+    def conversion_map(self) -> None:
+        c = self.case
+        with self.study("conversion map"):
+            m = self._map("conversion map", T=self.T_grid, P=np.array(c.pressures))
+        self.map = m
+        self.add_table(_long_table("conversion_map", "Conversion map: every grid point", m, c))
+        conv = np.asarray(m.conversion)
+        pcols = ["T [degC]"] + [f"conversion {c.key} at {p / 1e5:g} bar [%]" for p in c.pressures]
+        prow = [[float(_c(t))] + [100.0 * float(x) for x in conv[i]] for i, t in enumerate(self.T_grid)]
+        note = f"Operating temperature; equilibrium taken with a {c.approach:g} K approach." if c.approach else ""
+        self.add_table(Table("conversion_by_temperature", f"Equilibrium conversion of {c.key} by temperature "
+                             "and pressure option", pcols, prow, note=note, html_every=max(1, len(prow) // 16)))
+        mid = len(self.T_grid) // 2
+        txt = ", ".join(f"{100 * conv[mid, j]:.1f} % at {p / 1e5:g} bar" for j, p in enumerate(c.pressures))
+        self.findings.append(f"Equilibrium conversion of {c.key} at {self.T_grid[mid] - ZERO_CELSIUS:.0f} degC"
+                             f"{' (with the approach margin)' if c.approach else ''}: {txt}.")
+        if not m.all_converged:
+            self.notes.append(f"conversion map: {m.message}")
+
+        st = c.studies.conversion_map
+        if st.feed_ratio is None:
+            return
+        fr = st.feed_ratio
+        ratios = np.asarray(fr.values, dtype=float)
+        if self.coarse:
+            ratios = _subsample(ratios, 3)
+        P_r = st.composition_at or c.pressures[0]
+        with self.study("feed-ratio map"):
+            mr = self._map("feed-ratio map", T=self.T_grid, P=np.array([P_r]), feed_ratio=fr, ratios=ratios)
+        self.ratio_map = (mr, ratios, P_r)
+        self.add_table(_long_table("conversion_by_feed_ratio_map", f"Conversion map over {fr.label} at "
+                                   f"{P_r / 1e5:g} bar: every grid point", mr, c, ratio=(fr, ratios)))
+        conv_r = np.asarray(mr.conversion).reshape(len(self.T_grid), ratios.size)
+        rcols = ["T [degC]"] + [f"conversion {c.key} at {fr.label} {r:g} [%]" for r in ratios]
+        rrow = [[float(_c(t))] + [100.0 * float(x) for x in conv_r[i]] for i, t in enumerate(self.T_grid)]
+        self.add_table(Table("conversion_by_feed_ratio", f"Equilibrium conversion of {c.key} by temperature and "
+                             f"{fr.label} at {P_r / 1e5:g} bar", rcols, rrow, note=note,
+                             html_every=max(1, len(rrow) // 16)))
+        base = fr.current(c.feed, self.db)
+        self.findings.append(f"The case feed has {fr.label} {base:.3g}; at {self.T_grid[mid] - ZERO_CELSIUS:.0f} degC "
+                             f"and {P_r / 1e5:g} bar the conversion of {c.key} is " + ", ".join(
+                                 f"{100 * conv_r[mid, k]:.1f} % at {r:g}" for k, r in enumerate(ratios)) + ".")
+
+    def conversion_figures(self) -> None:
+        c = self.case
+        m = self.map
+        st = c.studies.conversion_map
+        conv = np.asarray(m.conversion)
+        curves = [(f"{p / 1e5:g} bar", conv[:, j]) for j, p in enumerate(c.pressures)]
+        fig = plots.conversion_vs_temperature(self.T_grid, curves, key=c.key, target=self.target_line,
+                                              design_points=self.design_points, approach=c.approach)
+        cap = (f"Equilibrium conversion of {c.key} at each pressure option ({c.gas_model} gas"
+               + (f", {c.approach:g} K approach margin" if c.approach else "") + ") for the case feed.")
+        if self.design_points:
+            cap += " Stars mark the answers of the temperature targets (pressure in brackets)."
+        self.add_figure("conversion_vs_temperature", f"Conversion of {c.key} against temperature", cap, fig)
+        if getattr(self, "ratio_map", None) is not None:
+            mr, ratios, P_r = self.ratio_map
+            fr = st.feed_ratio
+            conv_r = np.asarray(mr.conversion).reshape(len(self.T_grid), ratios.size)
+            curves = [(f"{fr.label} {r:g}", conv_r[:, k]) for k, r in enumerate(ratios)]
+            fig = plots.conversion_vs_temperature(self.T_grid, curves, key=c.key, approach=c.approach,
+                                                  title=f"Conversion of {c.key} against temperature at "
+                                                        f"{P_r / 1e5:g} bar, by {fr.label}")
+            self.add_figure("conversion_by_feed_ratio", f"Conversion of {c.key} by {fr.label}",
+                            f"Equilibrium conversion of {c.key} at {P_r / 1e5:g} bar for each {fr.label} "
+                            f"(the case feed has {fr.current(c.feed, self.db):.3g}).", fig)
+
+        # outlet composition at one pressure
+        P_comp = st.composition_at or c.pressures[0]
+        if P_comp in c.pressures:
+            j = c.pressures.index(P_comp)
+            y = {k: np.asarray(v)[:, j] for k, v in m.mole_fractions.items()}
+        else:
+            with self.study("outlet composition"):
+                m2 = self._map("outlet composition", T=self.T_grid, P=np.array([P_comp]))
+            y = {k: np.asarray(v)[:, 0] for k, v in m2.mole_fractions.items()}
+        shown = [(k, v) for k, v in y.items() if np.nanmax(np.nan_to_num(v)) > 0]
+        ymax = max(float(np.nanmax(v)) for _, v in shown)
+        small = [float(np.nanmin(v[v > 0])) for _, v in shown if np.any(v > 0)]
+        log_scale = bool(small) and min(small) < 1e-3 * ymax
+        fig = plots.composition_vs_temperature(self.T_grid, shown, pressure=P_comp, log_scale=log_scale)
+        self.add_figure("outlet_composition", f"Outlet composition at {P_comp / 1e5:g} bar",
+                        f"Equilibrium gas composition leaving the reactor at {P_comp / 1e5:g} bar"
+                        + (" (mole fraction on a logarithmic axis)" if log_scale else "") + ".", fig)
+        cols = ["T [degC]"] + [f"y {k} [-]" for k, _ in shown]
+        rows = [[float(_c(t))] + [float(v[i]) for _, v in shown] for i, t in enumerate(self.T_grid)]
+        self.add_table(Table("outlet_composition", f"Equilibrium outlet composition at {P_comp / 1e5:g} bar",
+                             cols, rows, html_every=max(1, len(rows) // 12)))
+
+    # --------------------------------------------------------------- targets
+    def targets(self) -> None:
+        from .design import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
+        c = self.case
+        kw = self.common()
+        rows = []
+        with self.study("target questions"):
+            for q in c.studies.targets:
+                if q.solve_for == "temperature":
+                    Ps = [q.pressure] if q.pressure else list(c.pressures)
+                    ans = temperature_for_conversion(list(c.species), c.feed, np.array(Ps), c.key, q.conversion,
+                                                     T_range=q.search, **kw)
+                    Ts, reached = np.atleast_1d(ans.T), np.atleast_1d(ans.reached)
+                    msgs = np.atleast_1d(ans.message)
+                    xs = np.atleast_1d(ans.conversion_at_T)
+                    best = np.atleast_1d(ans.best_conversion)
+                    for i, P in enumerate(Ps):
+                        rows.append([q.label, "temperature", f"{P / 1e5:g} bar", 100 * q.conversion,
+                                     float(_c(Ts[i])) if reached[i] else float("nan"), "degC", bool(reached[i]),
+                                     100 * float(best[i]), str(msgs[i])])
+                        if reached[i]:
+                            self.design_points.append((f"{Ts[i] - ZERO_CELSIUS:.0f} °C ({P / 1e5:g} bar)",
+                                                       float(Ts[i]), float(xs[i])))
+                            self.rec.temperatures(np.atleast_1d(ans.T_equilibrium)[i])
+                        head = (f"{q.label} at {P / 1e5:g} bar: {_fmt_T(float(Ts[i]))}. " if reached[i] else
+                                f"{q.label} at {P / 1e5:g} bar: not reached. ")
+                        self.findings.append(head + str(msgs[i]) + ".")
+                    self.target_line = q.conversion if self.target_line is None else self.target_line
+                elif q.solve_for == "pressure":
+                    ans = pressure_for_conversion(list(c.species), c.feed, q.temperature, c.key, q.conversion,
+                                                  P_range=q.search, **kw)
+                    reached = bool(ans.reached)
+                    self.rec.temperatures([q.temperature])
+                    rows.append([q.label, "pressure", f"{q.temperature - ZERO_CELSIUS:g} degC", 100 * q.conversion,
+                                 float(ans.P) / 1e5 if reached else float("nan"), "bar", reached,
+                                 100 * float(ans.best_conversion), str(ans.message)])
+                    head = f"{q.label}: {float(ans.P) / 1e5:.4g} bar. " if reached else f"{q.label}: not reached. "
+                    self.findings.append(head + f"{ans.message}.")
+                else:
+                    P = q.pressure or c.pressures[0]
+                    lo, hi = q.search
+                    ans = feed_ratio_for_conversion(list(c.species), c.feed, q.temperature, P, c.key, q.conversion,
+                                                    ratio=_api_ratio(q.feed_ratio), ratio_range=(lo, hi), **kw)
+                    reached = bool(ans.reached)
+                    self.rec.temperatures([q.temperature])
+                    rows.append([q.label, q.feed_ratio.label,
+                                 f"{q.temperature - ZERO_CELSIUS:g} degC, {P / 1e5:g} bar", 100 * q.conversion,
+                                 float(ans.ratio) if reached else float("nan"), "mol/mol", reached,
+                                 100 * float(ans.best_conversion), str(ans.message)])
+                    head = (f"{q.label}: {q.feed_ratio.label} {float(ans.ratio):.4g}. " if reached else
+                            f"{q.label}: not reached. ")
+                    self.findings.append(head + f"{ans.message}.")
+        cols = ["question", "solve for", "fixed condition", f"target conversion {c.key} [%]", "answer [value]",
+                "answer unit", "reached [-]", "best conversion in range [%]", "message"]
+        self.add_table(Table("targets", "Target questions", cols, rows,
+                             note="The answer is the operating value; with an approach margin the equilibrium "
+                                  "is taken that many kelvin on the side that lowers conversion."))
+
+    # --------------------------------------------------------------- pressure options
+    def pressure_options(self) -> None:
+        c = self.case
+        st = c.studies.pressure_options
+        T = np.array(st.temperatures)
+        P = np.array(c.pressures)
+        rows, series = [], []
+        key_flow = None
+        if c.feed_flow:
+            key_flow = c.feed_flow * c.feed[c.key]       # mol/s of key
+        for model in st.gas_models:
+            with self.study(f"pressure options ({model})"):
+                m = self._map(f"pressure options, {model} gas", T=T, P=P, gas_model=model)
+            conv = np.asarray(m.conversion)
+            for i, t in enumerate(T):
+                series.append((f"{model} gas, {t - ZERO_CELSIUS:g} degC", conv[i]))
+                for j, p in enumerate(P):
+                    row = [model, float(_c(t)), float(p / 1e5), 100 * float(conv[i, j])]
+                    if c.product:
+                        row.append(float(np.asarray(m.mole_fractions[c.product])[i, j]) if c.product in
+                                   m.mole_fractions else float("nan"))
+                    dH = float(np.asarray(m.reaction_enthalpy)[i, j])
+                    row.append(dH / 1000.0)
+                    if key_flow:
+                        row.append(-dH * float(conv[i, j]) * key_flow / 1e6)
+                    row.append(bool(np.asarray(m.converged)[i, j]))
+                    rows.append(row)
+        cols = ["gas model", "T [degC]", "P [bar]", f"conversion {c.key} [%]"]
+        if c.product:
+            cols.append(f"y {c.product} outlet [-]")
+        cols.append(f"reaction enthalpy [kJ/mol {c.key} converted]")
+        if key_flow:
+            cols.append("heat released at T [MW]")
+        cols.append("converged [-]")
+        note = ("Reaction enthalpy from the ideal-gas standard enthalpies at T (no residual enthalpy), for both "
+                "gas models.")
+        if key_flow:
+            note += (" Heat released: that enthalpy times the key reactant converted, for the feed flow of "
+                     f"{c.feed_flow * 3.6:.6g} kmol/h; a negative value means heat taken up.")
+        self.add_table(Table("pressure_options", "Pressure options compared", cols, rows, note=note))
+        self.add_figure("pressure_options", "Pressure options", "Equilibrium conversion at each pressure option"
+                        + (", ideal gas against Peng-Robinson" if len(st.gas_models) > 1 else "")
+                        + (f"; {c.approach:g} K approach margin" if c.approach else "") + ".",
+                        plots.pressure_option_comparison(P, series, key=c.key))
+        if len(st.gas_models) > 1:
+            by = {(r[0], r[1], r[2]): r[3] for r in rows}
+            diffs = [by[(st.gas_models[1], t, p)] - by[(st.gas_models[0], t, p)]
+                     for (_, t, p) in by if (st.gas_models[1], t, p) in by and (st.gas_models[0], t, p) in by]
+            if diffs:
+                worst = max(diffs, key=abs)
+                self.findings.append(f"Gas model matters by up to {worst:+.2f} percentage points of conversion "
+                                     f"({st.gas_models[1]} against {st.gas_models[0]}) over the pressure options.")
+
+    # --------------------------------------------------------------- staged beds
+    def staged_beds(self) -> None:
+        from .energy import staged_converter
+        c = self.case
+        st = c.studies.staged_beds
+        kw = self.common()
+        kw["approach"] = c.approach
+        inlet = st.inlet_temperature if len(st.inlet_temperatures) == 1 else list(st.inlet_temperatures)
+        with self.study("staged beds"):
+            res = staged_converter(list(c.species), c.feed, st.pressure, c.key, inlet, n_beds=st.beds,
+                                   target=st.target, interstage_removal=st.removal or None, **kw)
+        bed_rows = list(res.rows())
+        cols, rows = [], []
+        for r in bed_rows:
+            row = {}
+            for k, v in r.items():
+                if k == "interstage heat removed [J]":
+                    row["interstage heat removed [kJ/mol feed]"] = v / 1000.0
+                    if c.feed_flow:
+                        row["interstage heat removed [MW]"] = v * c.feed_flow / 1e6
+                elif isinstance(v, dict):
+                    row[k.replace("[mol]", "[mol/mol feed]")] = "; ".join(f"{n} {a:.5g}" for n, a in v.items())
+                else:
+                    row[k] = v
+            if not cols:
+                cols = list(row)
+            rows.append([row.get(k, "") for k in cols])
+        self.add_table(Table("staged_beds", "Staged adiabatic beds with interstage cooling", cols, rows,
+                             note=res.message))
+        d = res.diagram
+        for b in res.beds:
+            self.rec.temperatures([b.inlet_T, b.outlet_T])
+        if d.bed_lines:
+            fig = plots.conversion_temperature_diagram(d.equilibrium_curves, d.bed_lines, d.cooling_lines,
+                                                       key=c.key, target=st.target)
+            self.add_figure("conversion_temperature_diagram", "Conversion-temperature diagram",
+                            f"Equilibrium conversion of {c.key} at {st.pressure / 1e5:g} bar (black) and each "
+                            "bed's adiabatic operating line; dotted grey lines are interstage cooling"
+                            + (" (and removal of " + ", ".join(sorted({n for v in st.removal.values() for n in v}))
+                               + ")" if st.removal else "") + ".", fig)
+        self.findings.append(f"Staged beds at {st.pressure / 1e5:g} bar: {res.message}"
+                             + (f" Hottest bed outlet {max(b.outlet_T for b in res.beds) - ZERO_CELSIUS:.0f} degC."
+                                if res.beds else ""))
+        flagged = 1 if "did not converge" in res.message else 0
+        its = max((b.iterations for b in res.beds), default=0)
+        self.checks.append(SolverCheck("staged beds", len(res.beds), flagged, float("nan"),
+                                       f"adiabatic energy balance per bed (relative tolerance 1e-10); up to {its} "
+                                       "equilibrium evaluations per bed"))
+        self.notes.append("staged beds: " + res.caution)
+
+    # --------------------------------------------------------------- carbon limit
+    def carbon_limit(self) -> None:
+        from .design import carbon_limit
+        c = self.case
+        st = c.studies.carbon_limit
+        T = st.temperature.values()
+        ratios = np.asarray(st.feed_ratio.values, dtype=float)
+        if self.coarse:
+            T = _subsample(T, COARSE_POINTS)
+            ratios = _subsample(ratios, 7)
+        spec = _api_ratio(st.feed_ratio)
+        kw = dict(T=T, P=st.pressure, gas_model=c.gas_model, database=self.db,
+                  ratio_range=(max(min(ratios) / 4, 0.01), max(ratios) * 4))
+        if spec == "steam_to_carbon":
+            kw["steam_to_carbon"] = ratios
+        else:
+            kw["feed_ratio"] = (spec[0], spec[1], ratios)
+        feed = {k: v for k, v in c.feed.items()}
+        species = [s for s in c.species if self.db[s].is_gas]
+        with self.study("carbon limit"):
+            lim = carbon_limit(species, feed, **kw)
+        self.rec.temperatures(T)
+        a = np.asarray(lim.carbon_activity)
+        stable = np.asarray(lim.graphite_stable)
+        crit = np.asarray(lim.critical_ratio)
+        status = np.asarray(lim.status)
+        rows = []
+        for i, t in enumerate(T):
+            for k, r in enumerate(ratios):
+                rows.append([float(_c(t)), float(r), float(a[i, k]), bool(stable[i, k])])
+        label = st.feed_ratio.label
+        self.add_table(Table("carbon_limit_map", f"Graphite activity over temperature and {label} at "
+                             f"{st.pressure / 1e5:g} bar", ["T [degC]", f"{label} [mol/mol]", "graphite activity [-]",
+                                                           "carbon forms [-]"], rows, in_report=False))
+        brow = [[float(_c(t)), float(crit[i]), str(status[i])] for i, t in enumerate(T)]
+        self.add_table(Table("carbon_limit", f"Carbon limit: lowest {label} free of graphite at "
+                             f"{st.pressure / 1e5:g} bar", ["T [degC]", f"critical {label} [mol/mol]", "status"],
+                             brow, note="Graphite is thermodynamically stable below the critical ratio (gas at "
+                                        "equilibrium without carbon, graphite activity above 1). 'carbon-free': "
+                                        "no carbon even at the low end of the search range; 'carbon': carbon "
+                                        "even at the high end.", html_every=max(1, len(brow) // 14)))
+        edge = np.where(status == "carbon", np.inf, np.where(status == "carbon-free", -np.inf, crit))
+        fig = plots.carbon_limit_map(T, ratios, stable, ratio_label=label, boundary=edge.astype(float),
+                                     pressure=st.pressure)
+        self.add_figure("carbon_limit", "Carbon limit map", f"Where graphite is thermodynamically stable (hatched) "
+                        f"over temperature and {label} at {st.pressure / 1e5:g} bar; the line is the critical "
+                        "ratio. Catalyst-specific limits (whisker carbon, gum) differ and are not shown.", fig)
+        finite = np.isfinite(crit)
+        if finite.any():
+            worst = int(np.nanargmax(np.where(finite, crit, -np.inf)))
+            self.findings.append(f"Carbon limit at {st.pressure / 1e5:g} bar: graphite is stable below {label} "
+                                 f"{crit[worst]:.3g} at {T[worst] - ZERO_CELSIUS:.0f} degC, the most demanding "
+                                 f"temperature of the range studied.")
+        n_bad = int(np.count_nonzero(status == "failed"))
+        self.checks.append(SolverCheck("carbon limit", int(T.size), n_bad, float("nan"), lim.message))
+
+    # --------------------------------------------------------------- provenance and diagnostics
+    def provenance_table(self) -> None:
+        c = self.case
+        lo, hi = self.rec.T_min, self.rec.T_max
+        rows = []
+        records = c.records()
+        if c.studies.carbon_limit and "C(gr)" in self.db and all(sp.name != "C(gr)" for sp in records):
+            records.append(self.db["C(gr)"])
+        for sp in records:
+            ext = []
+            if np.isfinite(lo) and lo < sp.T_min - LOW_T_MARGIN:
+                ext.append(f"below {sp.T_min:g} K")
+            if np.isfinite(hi) and hi > sp.T_max:
+                ext.append(f"above {sp.T_max:g} K")
+            supplied = next((u for u in c.user_species if u.name == sp.name), None)
+            rows.append([sp.name, sp.common_name or sp.formula, sp.phase,
+                         (supplied.source + " (supplied in the case file)") if supplied else sp.reference,
+                         sp.data_note, sp.T_min, sp.T_max, "; ".join(ext) or "no"])
+        self.add_table(Table("data_provenance", "Data provenance of every species used",
+                             ["species", "name", "phase", "data source", "note", "valid from [K]", "valid to [K]",
+                              "extrapolated"], rows,
+                             note=(f"Temperatures evaluated in this run: {lo:.1f}-{hi:.1f} K."
+                                   if np.isfinite(lo) else "")))
+
+    def diagnostics_table(self) -> None:
+        rows = [[ch.study, ch.points, ch.flagged, ch.largest_residual, ch.note] for ch in self.checks]
+        self.add_table(Table("solver_diagnostics", "Solver diagnostics",
+                             ["study", "points [-]", "points flagged [-]", "largest residual [-]", "note"], rows,
+                             note="A flagged point did not converge; its results are blank (NaN), never "
+                                  "guessed."))
+
+
+def _unit_header(key: str) -> str:
+    """Column header with a unit in brackets (pass through headers that have one)."""
+    return key if "[" in key else f"{key} [-]"
+
+
+def _long_table(name: str, title: str, m, case: Case, ratio=None) -> Table:
+    """A conversion map in long format: one row per grid point, units in the headers."""
+    shape = m.shape
+    T = np.broadcast_to(m.T, shape).reshape(-1)
+    P = np.broadcast_to(m.P, shape).reshape(-1)
+    cols = ["T [degC]", "T [K]", "P [bar]"]
+    data = [_c(T), T, _bar(P)]
+    if ratio is not None:
+        fr, values = ratio
+        cols.append(f"{fr.label} [mol/mol]")
+        data.append(np.broadcast_to(values.reshape((1,) * (len(shape) - 1) + (-1,)), shape).reshape(-1))
+    if m.approach:
+        cols.append("T equilibrium [degC]")
+        data.append(_c(np.asarray(m.T_equilibrium).reshape(-1)))
+    cols.append(f"conversion {case.key} [-]")
+    data.append(np.asarray(m.conversion).reshape(-1))
+    if m.product_yield is not None:
+        cols.append(f"yield {m.product} [mol/mol {case.key} fed]")
+        data.append(np.asarray(m.product_yield).reshape(-1))
+    for sp, y in m.mole_fractions.items():
+        cols.append(f"y {sp} [-]")
+        data.append(np.asarray(y).reshape(-1))
+    cols.append(f"reaction enthalpy [kJ/mol {case.key} converted]")
+    data.append(np.asarray(m.reaction_enthalpy).reshape(-1) / 1000.0)
+    if m.carbon_activity is not None:
+        cols.append("graphite activity [-]")
+        data.append(np.asarray(m.carbon_activity).reshape(-1))
+    cols.append("converged [-]")
+    data.append(np.asarray(m.converged).reshape(-1).astype(int))
+    rows = [list(r) for r in zip(*[np.asarray(d).tolist() for d in data])]
+    return Table(name, title, cols, rows, in_report=False,
+                 note="Long format, one row per grid point.")
+
+
+# ============================================================================ writing
+def csv_text(table: Table) -> str:
+    """The table as CSV text (units in the header row; missing values left empty).
+
+    >>> print(csv_text(Table("t", "T", ["T [K]", "conversion [-]", "converged [-]"],
+    ...                      [[700.0, 0.25, True], [800.0, float("nan"), False]])), end="")
+    T [K],conversion [-],converged [-]
+    700,0.25,1
+    800,,0
+    """
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(table.columns)
+    for row in table.rows:
+        w.writerow([_csv_cell(v) for v in row])
+    return buf.getvalue()
+
+
+def _csv_cell(v):
+    if isinstance(v, (bool, np.bool_)):
+        return "1" if v else "0"
+    if isinstance(v, (float, np.floating)):
+        return "" if not np.isfinite(v) else f"{float(v):.10g}"
+    return v
+
+
+def write_atomic(path: Path, data: bytes) -> None:
+    """Write ``data`` to ``path`` through a temporary file in the same folder and
+    :func:`os.replace`: readers see the old file or the complete new one, never a part."""
+    path = Path(path)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as f:
+            f.write(data)
+            f.flush()
+            os.fsync(f.fileno())
+        os.chmod(tmp, 0o666 & ~_umask())          # mkstemp makes owner-only files
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
+
+
+def _umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+def check_output_folder(outdir: str | Path, force: bool) -> None:
+    """Raise :class:`OutputExistsError` when ``outdir`` exists (and is not an empty
+    folder) and ``force`` is false."""
+    p = Path(outdir)
+    if p.exists() and not force:
+        if p.is_dir() and not any(p.iterdir()):
+            return
+        raise OutputExistsError(f"{p}: exists; eqdesign never overwrites results: choose another folder with -o, "
+                                "or add --force to replace it")
+    if p.exists() and not p.is_dir():
+        raise OutputExistsError(f"{p}: is a file, not a folder; choose another name with -o")
+
+
+def output_files(result: RunResult) -> dict:
+    """File name -> bytes of every output of a run (report, tables, figures, case copy)."""
+    from .report import build_report
+    case = result.case
+    files: dict[str, bytes] = {}
+    if case.output.tables:
+        for t in result.tables:
+            files[f"{t.name}.csv"] = csv_text(t).encode("utf-8")
+    pngs = {}
+    for f in result.figures:
+        if case.output.report or "png" in case.output.plot_formats:
+            pngs[f.name] = plots.render(f.figure, "png")
+        for fmt in case.output.plot_formats:
+            files[f"{f.name}.{fmt}"] = pngs[f.name] if fmt == "png" else plots.render(f.figure, fmt)
+    if case.output.report:
+        files["report.html"] = build_report(result, images=pngs).encode("utf-8")
+    files["case.yaml"] = case.text.encode("utf-8")
+    files["run_summary.json"] = json.dumps(run_summary(result), indent=2).encode("utf-8")
+    return files
+
+
+def run_summary(result: RunResult) -> dict:
+    """Machine-readable summary of a run."""
+    case = result.case
+    return {
+        "case_file": case.file,
+        "case_sha256": hashlib.sha256(case.text.encode("utf-8")).hexdigest(),
+        "title": case.title,
+        "started": result.started,
+        "elapsed_s": round(result.elapsed, 3),
+        "study_times_s": {k: round(v, 3) for k, v in result.study_times.items()},
+        "reduced_resolution": result.coarse,
+        "points_flagged": result.flagged,
+        "largest_residual": None if not np.isfinite(result.largest_residual) else result.largest_residual,
+        "extrapolations": result.extrapolations,
+        "findings": result.findings,
+        "tables": [f"{t.name}.csv" for t in result.tables] if case.output.tables else [],
+        "figures": [f"{f.name}.{fmt}" for f in result.figures for fmt in case.output.plot_formats],
+    }
+
+
+def write_outputs(result: RunResult, outdir: str | Path, *, force: bool = False) -> list[Path]:
+    """Write every output of a run into the folder ``outdir``, all or nothing.
+
+    The files are written (each atomically) into a temporary folder beside ``outdir``,
+    which is then renamed to ``outdir``; with ``force`` an existing ``outdir`` is moved
+    aside first and deleted after the rename.  On any failure the temporary folder is
+    removed and an existing ``outdir`` is left as it was.
+
+    Returns
+    -------
+    list[Path]
+        The files written.
+    """
+    outdir = Path(outdir)
+    check_output_folder(outdir, force)
+    files = output_files(result)
+    parent = outdir.parent if str(outdir.parent) else Path(".")
+    created = []                                  # folders made for the output, innermost last
+    p = parent.absolute()
+    while not p.exists():
+        created.insert(0, p)
+        p = p.parent
+    parent.mkdir(parents=True, exist_ok=True)
+    old = None
+    try:
+        tmp = Path(tempfile.mkdtemp(prefix=f".{outdir.name}.partial-", dir=parent))
+    except BaseException:
+        _remove_empty(created)
+        raise
+    try:
+        for name, data in files.items():
+            write_atomic(tmp / name, data)
+        os.chmod(tmp, 0o777 & ~_umask())
+        if outdir.exists():
+            if outdir.is_dir() and not any(outdir.iterdir()):
+                outdir.rmdir()
+            else:
+                old = Path(tempfile.mkdtemp(prefix=f".{outdir.name}.old-", dir=parent))
+                os.rmdir(old)
+                os.replace(outdir, old)
+        os.replace(tmp, outdir)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        if old is not None and old.exists() and not outdir.exists():
+            os.replace(old, outdir)
+        _remove_empty(created)
+        raise
+    if old is not None:
+        shutil.rmtree(old, ignore_errors=True)
+    return [outdir / name for name in files]
+
+
+def _remove_empty(folders: list) -> None:
+    """Remove folders made for an output that failed, innermost first, if still empty."""
+    for folder in reversed(folders):
+        try:
+            folder.rmdir()
+        except OSError:
+            break
