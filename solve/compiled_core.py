@@ -55,284 +55,6 @@ def _linear_solve(M, r, size):
     return True
 
 
-@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
-def _newton(c_gas, g0c, A_gas, A_cond, b, bscale, present, ln_gas, ln_tot, cond, pi,
-            tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln):
-    """Newton iterations for one state with the phase set fixed.
-
-    Returns (converged, iterations, residual).  ln_tot is a 1-element array (in/out).
-    """
-    m, nG = A_gas.shape
-    nC = A_cond.shape[1]
-    size = m + nC + 1
-    residual = np.inf
-    for j in range(nG):
-        n_j[j] = np.exp(ln_gas[j])
-    for it in range(max_iterations):
-        lt = ln_tot[0]
-        n_tot = np.exp(lt)
-        sum_n = 0.0
-        for j in range(nG):
-            mu[j] = c_gas[j] + ln_gas[j] - lt
-            sum_n += n_j[j]
-        for i in range(size):
-            for k in range(size):
-                M[i, k] = 0.0
-            r[i] = 0.0
-        sum_nmu = 0.0
-        for j in range(nG):
-            nj = n_j[j]
-            nmu = nj * mu[j]
-            sum_nmu += nmu
-            for i in range(m):
-                aij = A_gas[i, j]
-                if aij != 0.0:
-                    w = aij * nj
-                    for k in range(i, m):
-                        M[i, k] += w * A_gas[k, j]
-                    M[i, size - 1] += w
-                    r[i] += aij * (nmu - nj)
-        for i in range(m):
-            for k in range(i):
-                M[i, k] = M[k, i]
-            M[size - 1, i] = M[i, size - 1]
-            r[i] += b[i]
-            for c in range(nC):
-                r[i] -= A_cond[i, c] * cond[c]
-        for c in range(nC):
-            row = m + c
-            if present[c]:
-                for i in range(m):
-                    M[i, row] = A_cond[i, c]
-                    M[row, i] = A_cond[i, c]
-                r[row] = g0c[c]
-            else:
-                M[row, row] = 1.0
-        M[size - 1, size - 1] = sum_n - n_tot
-        r[size - 1] = n_tot - sum_n + sum_nmu
-        if not _linear_solve(M, r, size):
-            return False, it + 1, np.inf
-        d_tot = r[size - 1]
-        for i in range(m):
-            pi[i] = r[i]
-        # step control, RP-1311 eqs. (3.1)-(3.3)
-        grow = 0.0
-        lam2 = np.inf
-        for j in range(nG):
-            d = -mu[j] + d_tot
-            for i in range(m):
-                d += A_gas[i, j] * r[i]
-            d_ln[j] = d
-            rel = ln_gas[j] - lt
-            if rel > LN_TRACE:
-                if d > grow:
-                    grow = d
-            elif d >= 0.0:
-                den = d - d_tot
-                if den != 0.0:
-                    ratio = abs((-rel - 9.2103404) / den)
-                    if ratio < lam2:
-                        lam2 = ratio
-        denom1 = max(5.0 * abs(d_tot), grow)
-        lam = 1.0
-        if denom1 > 0.0:
-            lam = min(lam, 2.0 / denom1)
-        lam = min(lam, lam2)
-        if not np.isfinite(lam):
-            return False, it + 1, np.inf
-        step = abs(d_tot)
-        for j in range(nG):
-            new = ln_gas[j] + lam * d_ln[j]
-            if new <= LN_FLOOR:
-                new = LN_FLOOR
-            ln_gas[j] = new
-        ln_tot[0] = lt + lam * d_tot
-        inv_tot = np.exp(-ln_tot[0])
-        for j in range(nG):
-            n_j[j] = np.exp(ln_gas[j])
-            # RP-1311's test weights each log step by the species' share of the gas: the
-            # last full step has set every trace species consistent with the potentials
-            w = n_j[j] * inv_tot
-            if w > 1.0:
-                w = 1.0
-            if w * abs(d_ln[j]) > step:
-                step = w * abs(d_ln[j])
-        for c in range(nC):
-            if present[c]:
-                dc = r[m + c]
-                cond[c] += lam * dc
-                if abs(dc) / bscale > step:
-                    step = abs(dc) / bscale
-        bal = 0.0
-        for i in range(m):
-            s = -b[i]
-            for j in range(nG):
-                s += A_gas[i, j] * n_j[j]
-            for c in range(nC):
-                s += A_cond[i, c] * cond[c]
-            if abs(s) > bal:
-                bal = abs(s)
-        bal /= bscale
-        if not (np.isfinite(step) and np.isfinite(bal)):
-            return False, it + 1, np.inf
-        if lam >= 1.0 and step < step_tol and bal < tolerance:
-            return True, it + 1, max(step * step, bal)
-        residual = max(step, bal)
-    return False, max_iterations, residual
-
-
-@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
-def _solve_state(c_gas, g0c, A_gas, A_cond, b, ln_gas, ln_tot, cond, present, pi, tolerance,
-                 step_tol, max_iterations, rounds, M, r, n_j, mu, d_ln):
-    """Newton plus the condensed-phase add/remove rounds for one state (RP-1311 §3.5)."""
-    m, nG = A_gas.shape
-    nC = A_cond.shape[1]
-    bscale = 0.0
-    for i in range(m):
-        bscale += abs(b[i])
-    bscale = max(bscale, 1e-300)
-    total_it = 0
-    residual = np.inf
-    for _ in range(rounds):
-        ok, its, residual = _newton(c_gas, g0c, A_gas, A_cond, b, bscale, present, ln_gas, ln_tot,
-                                    cond, pi, tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln)
-        total_it += its
-        if not ok:
-            return False, total_it, residual
-        if nC == 0:
-            return True, total_it, residual
-        worst = -1
-        worst_val = 0.0
-        for c in range(nC):
-            if present[c] and cond[c] <= 0.0 and (worst < 0 or cond[c] < worst_val):
-                worst = c
-                worst_val = cond[c]
-        if worst >= 0:
-            present[worst] = False
-            cond[worst] = 0.0
-            continue
-        best = -1
-        best_val = -1e-9
-        for c in range(nC):
-            if not present[c]:
-                drive = g0c[c]
-                for i in range(m):
-                    drive -= A_cond[i, c] * pi[i]
-                if drive < best_val:
-                    best_val = drive
-                    best = c
-        if best < 0:
-            return True, total_it, residual
-        present[best] = True
-        cond[best] = 0.0
-    return False, total_it, residual
-
-
-@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
-def solve_sweep(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, tolerance, max_iterations, rounds,
-                ln_gas_out, ln_tot_out, cond_out, present_out, pi_out, converged, iterations, residual,
-                warm):
-    """Solve every state in order.  With ``warm`` True each starts from the previous
-    converged answer; with ``warm`` False from the values passed in the output arrays.
-    Either way a state that fails is restarted from RP-1311's estimate."""
-    p, nG = g0_gas.shape
-    nC = g0_cond.shape[1]
-    m = A_gas.shape[0]
-    size = m + nC + 1
-    M = np.empty((size, size))
-    r = np.empty(size)
-    n_j = np.empty(nG)
-    mu = np.empty(nG)
-    d_ln = np.empty(nG)
-    c_gas = np.empty(nG)
-    ln_gas = np.empty(nG)
-    ln_tot = np.empty(1)
-    cond = np.empty(nC)
-    present = np.zeros(nC, dtype=np.bool_)
-    pi = np.zeros(m)
-    step_tol = min(np.sqrt(tolerance) * 10.0, 1e-5)
-    have_prev = False
-    have_prev2 = False
-    prev2_gas = np.zeros(nG)
-    prev2_tot = 0.0
-    prev2_present = np.zeros(nC, dtype=np.bool_)
-    prev_gas = np.empty(nG)
-    prev_tot = 0.0
-    prev_cond = np.empty(nC)
-    prev_present = np.zeros(nC, dtype=np.bool_)
-    for q in range(p):
-        for j in range(nG):
-            c_gas[j] = g0_gas[q, j] + ln_p[q]
-        done = False
-        its_all = 0
-        res = np.inf
-        for attempt in range(2):
-            if attempt == 0 and not warm:
-                # start from the values passed in (a previous answer for this same state)
-                for j in range(nG):
-                    ln_gas[j] = ln_gas_out[q, j]
-                ln_tot[0] = ln_tot_out[q]
-                for c in range(nC):
-                    cond[c] = cond_out[q, c]
-                    present[c] = present_out[q, c]
-            elif attempt == 0 and not have_prev:
-                continue
-            elif attempt == 0:
-                # linear extrapolation from the last two answers along the sweep
-                # (plain continuation from the last one after a phase change)
-                same = have_prev2
-                for c in range(nC):
-                    if prev_present[c] != prev2_present[c]:
-                        same = False
-                w = 1.0 if same else 0.0
-                for j in range(nG):
-                    ln_gas[j] = prev_gas[j] + w * (prev_gas[j] - prev2_gas[j])
-                ln_tot[0] = prev_tot + w * (prev_tot - prev2_tot)
-                for c in range(nC):
-                    cond[c] = prev_cond[c]
-                    present[c] = prev_present[c]
-            else:
-                for j in range(nG):
-                    ln_gas[j] = np.log(1.0 / nG)
-                ln_tot[0] = 0.0
-                for c in range(nC):
-                    cond[c] = 0.0
-                    present[c] = False
-            ok, its, res = _solve_state(c_gas, g0_cond[q], A_gas, A_cond, b[q], ln_gas, ln_tot, cond,
-                                        present, pi, tolerance, step_tol, max_iterations, rounds,
-                                        M, r, n_j, mu, d_ln)
-            its_all += its
-            if ok:
-                done = True
-                break
-        converged[q] = done
-        iterations[q] = its_all
-        residual[q] = res
-        for j in range(nG):
-            ln_gas_out[q, j] = ln_gas[j]
-        ln_tot_out[q] = ln_tot[0]
-        for c in range(nC):
-            cond_out[q, c] = cond[c] if present[c] else 0.0
-            present_out[q, c] = present[c]
-        for i in range(m):
-            pi_out[q, i] = pi[i]
-        if done:
-            have_prev2 = have_prev
-            for j in range(nG):
-                prev2_gas[j] = prev_gas[j]
-            prev2_tot = prev_tot
-            for c in range(nC):
-                prev2_present[c] = prev_present[c]
-            have_prev = True
-            for j in range(nG):
-                prev_gas[j] = ln_gas[j]
-            prev_tot = ln_tot[0]
-            for c in range(nC):
-                prev_cond[c] = cond[c]
-                prev_present[c] = present[c]
-
-
-# ---------------------------------------------------------------- fixed enthalpy and pressure
 @njit(cache=True)
 def _nasa_properties(T, coeffs, bounds, nranges, j):
     """cp/R, h/RT and g/RT of species j at T from its NASA 7-coefficient rows."""
@@ -352,49 +74,57 @@ def _nasa_properties(T, coeffs, bounds, nranges, j):
     return cp, h, h - s
 
 
-@njit(cache=True)
-def _newton_hp(coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale, present, ln_gas,
-               ln_tot, cond, ln_T, pi, tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln,
-               hg, cpg, hc, cpc):
-    """Newton iterations at fixed enthalpy and pressure for one state, phase set fixed.
+@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+def _newton(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale,
+            present, ln_gas, ln_tot, cond, ln_T, pi, tolerance, step_tol, max_iterations, M, r,
+            n_j, mu, d_ln, hg, hc):
+    """Newton iterations for one state with the phase set fixed (RP-1311 Part I §2).
 
-    The unknowns of the fixed-temperature problem plus Δln T; the energy equation
+    Unknowns: element potentials π, condensed amounts Δn_c, Δln n and Δln T.  At fixed
+    temperature (``fixed_h`` False) the Δln T row is the identity and μ°/RT comes from
+    ``c_gas`` (g°/RT + ln P/P°) and ``g0c``.  At fixed enthalpy and pressure the NASA
+    polynomials are evaluated at the current T and the energy equation
     Σ n_j h_j + Σ n_c h_c = H0 is linearised with d(g°/RT)/d ln T = -h°/RT and
-    d h°/d ln T = cp° T (the enthalpy-pressure problem of NASA RP-1311, Part I, §2.5).
-    ``h0`` is H0/R [K mol]; ``ln_tot`` and ``ln_T`` are 1-element arrays (in/out).
+    dh°/d ln T = cp° T (RP-1311 §2.5); ``h0`` is H0/R [K mol].
+    Returns (converged, iterations, residual); ``ln_tot`` and ``ln_T`` are 1-element
+    arrays (in/out).
     """
     m, nG = A_gas.shape
     nC = A_cond.shape[1]
-    size = m + nC + 2              # π, Δn_c, Δln n, Δln T
-    iT = size - 1
-    iN = size - 2
+    iN = m + nC
+    iT = m + nC + 1            # used only at fixed enthalpy (M has room for it either way)
+    size = m + nC + 2 if fixed_h else m + nC + 1
     residual = np.inf
     for j in range(nG):
         n_j[j] = np.exp(ln_gas[j])
+        hg[j] = 0.0
+    for c in range(nC):
+        hc[c] = 0.0
     for it in range(max_iterations):
-        T = np.exp(ln_T[0])
         lt = ln_tot[0]
         n_tot = np.exp(lt)
         sum_n = 0.0
-        H = 0.0                    # H/(RT)
-        cp_all = 0.0               # Σ n cp / R
+        H = 0.0                    # H/(RT) at fixed enthalpy
+        cp_all = 0.0               # Σ n cp/R at fixed enthalpy
+        T = np.exp(ln_T[0]) if fixed_h else 1.0
         for j in range(nG):
-            cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, j)
-            hg[j] = h
-            cpg[j] = cp
-            mu[j] = g + ln_p + ln_gas[j] - lt
+            if fixed_h:
+                cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, j)
+                hg[j] = h
+                mu[j] = g + ln_p + ln_gas[j] - lt
+                H += n_j[j] * h
+                cp_all += n_j[j] * cp
+            else:
+                mu[j] = c_gas[j] + ln_gas[j] - lt
             sum_n += n_j[j]
-            H += n_j[j] * h
-            cp_all += n_j[j] * cp
-        g0c_local = np.empty(nC)
-        for c in range(nC):
-            cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, nG + c)
-            hc[c] = h
-            cpc[c] = cp
-            g0c_local[c] = g
-            if present[c]:
-                H += cond[c] * h
-                cp_all += cond[c] * cp
+        if fixed_h:
+            for c in range(nC):
+                cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, nG + c)
+                hc[c] = h
+                g0c[c] = g
+                if present[c]:
+                    H += cond[c] * h
+                    cp_all += cond[c] * cp
         for i in range(size):
             for k in range(size):
                 M[i, k] = 0.0
@@ -406,11 +136,12 @@ def _newton_hp(coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale, pres
         for j in range(nG):
             nj = n_j[j]
             nmu = nj * mu[j]
-            nh = nj * hg[j]
             sum_nmu += nmu
-            sum_nh += nh
-            sum_nhh += nh * hg[j]
-            sum_nhmu += nh * mu[j]
+            if fixed_h:
+                nh = nj * hg[j]
+                sum_nh += nh
+                sum_nhh += nh * hg[j]
+                sum_nhmu += nh * mu[j]
             for i in range(m):
                 aij = A_gas[i, j]
                 if aij != 0.0:
@@ -418,7 +149,8 @@ def _newton_hp(coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale, pres
                     for k in range(i, m):
                         M[i, k] += w * A_gas[k, j]
                     M[i, iN] += w
-                    M[i, iT] += w * hg[j]
+                    if fixed_h:
+                        M[i, iT] += w * hg[j]
                     r[i] += aij * (nmu - nj)
         for i in range(m):
             for k in range(i):
@@ -436,21 +168,25 @@ def _newton_hp(coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale, pres
                     M[row, i] = A_cond[i, c]
                 M[row, iT] = hc[c]
                 M[iT, row] = hc[c]
-                r[row] = g0c_local[c]
+                r[row] = g0c[c]
             else:
                 M[row, row] = 1.0
         M[iN, iN] = sum_n - n_tot
         M[iN, iT] = sum_nh
         M[iT, iN] = sum_nh
         r[iN] = n_tot - sum_n + sum_nmu
-        M[iT, iT] = cp_all + sum_nhh
-        r[iT] = h0 / T - H + sum_nhmu
+        d_T = 0.0
+        if fixed_h:
+            M[iT, iT] = cp_all + sum_nhh
+            r[iT] = h0 / T - H + sum_nhmu
         if not _linear_solve(M, r, size):
             return False, it + 1, np.inf
         d_tot = r[iN]
-        d_T = r[iT]
+        if fixed_h:
+            d_T = r[iT]
         for i in range(m):
             pi[i] = r[i]
+        # step control, RP-1311 eqs. (3.1)-(3.3)
         grow = 0.0
         lam2 = np.inf
         for j in range(nG):
@@ -486,6 +222,8 @@ def _newton_hp(coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale, pres
         inv_tot = np.exp(-ln_tot[0])
         for j in range(nG):
             n_j[j] = np.exp(ln_gas[j])
+            # RP-1311's test weights each log step by the species' share of the gas: the
+            # last full step has set every trace species consistent with the potentials
             w = min(n_j[j] * inv_tot, 1.0)
             if w * abs(d_ln[j]) > step:
                 step = w * abs(d_ln[j])
@@ -513,14 +251,69 @@ def _newton_hp(coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale, pres
     return False, max_iterations, residual
 
 
-@njit(cache=True)
-def solve_sweep_hp(coeffs, bounds, nranges, A_gas, A_cond, b, ln_p, h0, tolerance, max_iterations,
-                   rounds, ln_T_out, ln_gas_out, ln_tot_out, cond_out, present_out, pi_out,
-                   converged, iterations, residual):
-    """Fixed enthalpy and pressure for every state, in order, each starting from its
-    predecessor's answer (temperature and composition); on input ``ln_T_out`` holds
-    the starting temperatures.  A state that fails is restarted from RP-1311's
-    estimate at its starting temperature."""
+@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+def _solve_state(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b,
+                 ln_gas, ln_tot, cond, ln_T, present, pi, tolerance, step_tol, max_iterations,
+                 rounds, M, r, n_j, mu, d_ln, hg, hc):
+    """Newton plus the condensed-phase add/remove rounds for one state (RP-1311 §3.5):
+    after each converged sub-problem remove the most negative condensed species, else add
+    the absent one whose formation lowers G most, else stop."""
+    m = A_gas.shape[0]
+    nC = A_cond.shape[1]
+    bscale = 0.0
+    for i in range(m):
+        bscale += abs(b[i])
+    bscale = max(bscale, 1e-300)
+    total_it = 0
+    residual = np.inf
+    for _ in range(rounds):
+        ok, its, residual = _newton(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p, h0, A_gas,
+                                    A_cond, b, bscale, present, ln_gas, ln_tot, cond, ln_T, pi,
+                                    tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln, hg, hc)
+        total_it += its
+        if not ok:
+            return False, total_it, residual
+        if nC == 0:
+            return True, total_it, residual
+        worst = -1
+        worst_val = 0.0
+        for c in range(nC):
+            if present[c] and cond[c] <= 0.0 and (worst < 0 or cond[c] < worst_val):
+                worst = c
+                worst_val = cond[c]
+        if worst >= 0:
+            present[worst] = False
+            cond[worst] = 0.0
+            continue
+        best = -1
+        best_val = -1e-9
+        for c in range(nC):
+            if not present[c]:
+                drive = g0c[c]       # at fixed enthalpy: g°/RT at the converged T
+                for i in range(m):
+                    drive -= A_cond[i, c] * pi[i]
+                if drive < best_val:
+                    best_val = drive
+                    best = c
+        if best < 0:
+            return True, total_it, residual
+        present[best] = True
+        cond[best] = 0.0
+    return False, total_it, residual
+
+
+@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+def _sweep(fixed_h, g0_gas, g0_cond, coeffs, bounds, nranges, h0, A_gas, A_cond, b, ln_p,
+           tolerance, max_iterations, rounds, step_tol, ln_T_out, ln_gas_out, ln_tot_out, cond_out,
+           present_out, pi_out, converged, iterations, residual, mode):
+    """Solve every state in order.
+
+    ``mode`` 0: each state starts from the linear extrapolation of the last two converged
+    answers along the sweep (plain continuation after a phase change); ``mode`` 1: from
+    the values passed in the output arrays.  Either way a state that fails is restarted
+    from RP-1311's estimate (equal gas amounts, no condensed species; at fixed enthalpy
+    from the starting temperature passed in ``ln_T_out``).
+    """
     p = b.shape[0]
     m, nG = A_gas.shape
     nC = A_cond.shape[1]
@@ -530,41 +323,58 @@ def solve_sweep_hp(coeffs, bounds, nranges, A_gas, A_cond, b, ln_p, h0, toleranc
     n_j = np.empty(nG)
     mu = np.empty(nG)
     d_ln = np.empty(nG)
-    hg = np.empty(nG)
-    cpg = np.empty(nG)
-    hc = np.empty(nC)
-    cpc = np.empty(nC)
+    hg = np.zeros(nG)
+    hc = np.zeros(nC)
+    c_gas = np.empty(nG)
+    g0c = np.empty(nC)
     ln_gas = np.empty(nG)
     ln_tot = np.empty(1)
     ln_T = np.empty(1)
     cond = np.empty(nC)
     present = np.zeros(nC, dtype=np.bool_)
     pi = np.zeros(m)
-    # the enthalpy balance is checked by the caller to ~1e-10: keep the final error in
-    # ln T at the square of this step
-    step_tol = min(np.sqrt(tolerance) * 10.0, 1e-7)
     have_prev = False
+    have_prev2 = False
     prev_gas = np.empty(nG)
+    prev2_gas = np.zeros(nG)
     prev_tot = 0.0
+    prev2_tot = 0.0
     prev_T = 0.0
+    prev2_T = 0.0
     prev_cond = np.empty(nC)
     prev_present = np.zeros(nC, dtype=np.bool_)
+    prev2_present = np.zeros(nC, dtype=np.bool_)
     for q in range(p):
-        bscale = 0.0
-        for i in range(m):
-            bscale += abs(b[q, i])
-        bscale = max(bscale, 1e-300)
+        if not fixed_h:
+            for j in range(nG):
+                c_gas[j] = g0_gas[q, j] + ln_p[q]
+            for c in range(nC):
+                g0c[c] = g0_cond[q, c]
+        start_T = ln_T_out[q]
         done = False
         its_all = 0
         res = np.inf
         for attempt in range(2):
-            if attempt == 0 and not have_prev:
-                continue
-            if attempt == 0:
+            if attempt == 0 and mode == 1:
                 for j in range(nG):
-                    ln_gas[j] = prev_gas[j]
-                ln_tot[0] = prev_tot
-                ln_T[0] = prev_T
+                    ln_gas[j] = ln_gas_out[q, j]
+                ln_tot[0] = ln_tot_out[q]
+                ln_T[0] = start_T
+                for c in range(nC):
+                    cond[c] = cond_out[q, c]
+                    present[c] = present_out[q, c]
+            elif attempt == 0 and not have_prev:
+                continue
+            elif attempt == 0:
+                same = have_prev2
+                for c in range(nC):
+                    if prev_present[c] != prev2_present[c]:
+                        same = False
+                w = 1.0 if same else 0.0
+                for j in range(nG):
+                    ln_gas[j] = prev_gas[j] + w * (prev_gas[j] - prev2_gas[j])
+                ln_tot[0] = prev_tot + w * (prev_tot - prev2_tot)
+                ln_T[0] = prev_T + w * (prev_T - prev2_T) if fixed_h else start_T
                 for c in range(nC):
                     cond[c] = prev_cond[c]
                     present[c] = prev_present[c]
@@ -572,48 +382,15 @@ def solve_sweep_hp(coeffs, bounds, nranges, A_gas, A_cond, b, ln_p, h0, toleranc
                 for j in range(nG):
                     ln_gas[j] = np.log(1.0 / nG)
                 ln_tot[0] = 0.0
-                ln_T[0] = ln_T_out[q]
+                ln_T[0] = start_T
                 for c in range(nC):
                     cond[c] = 0.0
                     present[c] = False
-            ok = False
-            for _ in range(rounds):
-                ok, its, res = _newton_hp(coeffs, bounds, nranges, ln_p[q], h0[q], A_gas, A_cond,
-                                          b[q], bscale, present, ln_gas, ln_tot, cond, ln_T, pi,
-                                          tolerance, step_tol, max_iterations, M, r, n_j, mu, d_ln,
-                                          hg, cpg, hc, cpc)
-                its_all += its
-                if not ok or nC == 0:
-                    break
-                # condensed-phase test at the current temperature (RP-1311 §3.5)
-                T = np.exp(ln_T[0])
-                worst = -1
-                worst_val = 0.0
-                for c in range(nC):
-                    if present[c] and cond[c] <= 0.0 and (worst < 0 or cond[c] < worst_val):
-                        worst = c
-                        worst_val = cond[c]
-                if worst >= 0:
-                    present[worst] = False
-                    cond[worst] = 0.0
-                    ok = False
-                    continue
-                best = -1
-                best_val = -1e-9
-                for c in range(nC):
-                    if not present[c]:
-                        cp, h, g = _nasa_properties(T, coeffs, bounds, nranges, nG + c)
-                        drive = g
-                        for i in range(m):
-                            drive -= A_cond[i, c] * pi[i]
-                        if drive < best_val:
-                            best_val = drive
-                            best = c
-                if best < 0:
-                    break
-                present[best] = True
-                cond[best] = 0.0
-                ok = False
+            ok, its, res = _solve_state(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p[q], h0[q],
+                                        A_gas, A_cond, b[q], ln_gas, ln_tot, cond, ln_T, present, pi,
+                                        tolerance, step_tol, max_iterations, rounds, M, r, n_j, mu,
+                                        d_ln, hg, hc)
+            its_all += its
             if ok:
                 done = True
                 break
@@ -630,11 +407,47 @@ def solve_sweep_hp(coeffs, bounds, nranges, A_gas, A_cond, b, ln_p, h0, toleranc
         for i in range(m):
             pi_out[q, i] = pi[i]
         if done:
-            have_prev = True
+            have_prev2 = have_prev
             for j in range(nG):
+                prev2_gas[j] = prev_gas[j]
                 prev_gas[j] = ln_gas[j]
+            prev2_tot = prev_tot
             prev_tot = ln_tot[0]
+            prev2_T = prev_T
             prev_T = ln_T[0]
             for c in range(nC):
-                prev_cond[c] = cond[c]
+                prev2_present[c] = prev_present[c]
                 prev_present[c] = present[c]
+                prev_cond[c] = cond[c]
+            have_prev = True
+
+
+def solve_sweep(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, tolerance, max_iterations, rounds,
+                ln_gas_out, ln_tot_out, cond_out, present_out, pi_out, converged, iterations, residual,
+                warm):
+    """Fixed temperature and pressure for every state (``g0_*`` = g°/RT at each state).
+
+    With ``warm`` True each state starts from its neighbours' answers along the sweep;
+    with ``warm`` False from the values passed in the output arrays.
+    """
+    p, nG = g0_gas.shape
+    step_tol = min(np.sqrt(tolerance) * 10.0, 1e-5)
+    _sweep(False, g0_gas, g0_cond, np.zeros((1, 1, 7)), np.zeros((1, 2)), np.ones(1, np.int64),
+           np.zeros(p), A_gas, A_cond, b, ln_p, tolerance, max_iterations, rounds, step_tol,
+           np.zeros(p), ln_gas_out, ln_tot_out, cond_out, present_out, pi_out, converged,
+           iterations, residual, 0 if warm else 1)
+
+
+def solve_sweep_hp(coeffs, bounds, nranges, A_gas, A_cond, b, ln_p, h0, tolerance, max_iterations,
+                   rounds, ln_T_out, ln_gas_out, ln_tot_out, cond_out, present_out, pi_out,
+                   converged, iterations, residual):
+    """Fixed enthalpy ``h0`` = H0/R [K mol] and pressure for every state, each starting
+    from its neighbours' answers; on input ``ln_T_out`` holds the starting temperatures."""
+    p = b.shape[0]
+    nG, nC = A_gas.shape[1], A_cond.shape[1]
+    # the caller checks the enthalpy balance to ~1e-10: keep the final error in ln T at
+    # the square of this step
+    step_tol = min(np.sqrt(tolerance) * 10.0, 1e-7)
+    _sweep(True, np.zeros((p, nG)), np.zeros((p, nC)), coeffs, bounds, nranges, h0, A_gas,
+           A_cond, b, ln_p, tolerance, max_iterations, rounds, step_tol, ln_T_out, ln_gas_out,
+           ln_tot_out, cond_out, present_out, pi_out, converged, iterations, residual, 0)
