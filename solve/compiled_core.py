@@ -20,7 +20,7 @@ LN_FLOOR = -690.0
 LN_TRACE = np.log(1e-8)
 
 
-@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+@njit(cache=True, error_model='numpy', fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
 def _linear_solve(M, r, size):
     """Gaussian elimination with partial pivoting, in place; returns False if singular."""
     for k in range(size):
@@ -55,7 +55,7 @@ def _linear_solve(M, r, size):
     return True
 
 
-@njit(cache=True)
+@njit(cache=True, error_model='numpy')
 def _nasa_properties(T, coeffs, bounds, nranges, j):
     """cp/R, h/RT and g/RT of species j at T from its NASA 7-coefficient rows."""
     r = 0
@@ -74,7 +74,7 @@ def _nasa_properties(T, coeffs, bounds, nranges, j):
     return cp, h, h - s
 
 
-@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+@njit(cache=True, error_model='numpy', fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
 def _newton(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b, bscale,
             present, ln_gas, ln_tot, cond, ln_T, pi, tolerance, step_tol, max_iterations, M, r,
             n_j, mu, d_ln, hg, hc):
@@ -251,7 +251,7 @@ def _newton(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p, h0, A_gas, A_con
     return False, max_iterations, residual
 
 
-@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+@njit(cache=True, error_model='numpy', fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
 def _solve_state(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p, h0, A_gas, A_cond, b,
                  ln_gas, ln_tot, cond, ln_T, present, pi, tolerance, step_tol, max_iterations,
                  rounds, M, r, n_j, mu, d_ln, hg, hc):
@@ -302,7 +302,7 @@ def _solve_state(fixed_h, c_gas, g0c, coeffs, bounds, nranges, ln_p, h0, A_gas, 
     return False, total_it, residual
 
 
-@njit(cache=True, fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
+@njit(cache=True, error_model='numpy', fastmath={'nsz', 'arcp', 'contract', 'reassoc'})
 def _sweep(fixed_h, g0_gas, g0_cond, coeffs, bounds, nranges, h0, A_gas, A_cond, b, ln_p,
            tolerance, max_iterations, rounds, step_tol, ln_T_out, ln_gas_out, ln_tot_out, cond_out,
            present_out, pi_out, converged, iterations, residual, mode):
