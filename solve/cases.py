@@ -16,7 +16,7 @@ Layout (``layout: eqdesign-case/1``; the demo cases in ``cases/`` show every blo
     user_species: {NAME: {formula, phase, source, critical, formation_data | reaction_data}}
     feed:         {composition: {SPECIES: amount}, flow}
     conditions:   {temperature: {low, high, points}, pressure: [options] | {low, high, points}}
-    studies:      {conversion_map, targets, pressure_options, staged_beds, carbon_limit}
+    studies:      {conversion_map, targets, pressure_options, staged_beds, carbon_limit, uncertainty}
     output:       {plots: [png, svg], tables: true, report: true}
 
 Numbers carry units as text read by pint (``"450 degC"``, ``"30 bar"``, ``"kmol/h"``,
@@ -29,7 +29,7 @@ from __future__ import annotations
 import difflib
 import math
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
@@ -43,6 +43,10 @@ from ..thermo.models import R, T_REF, FormationDataModel
 from ..thermo.reactions import Reaction, ReactionError, ReactionLevelData, bundled_database, parse_side
 from ..thermo.species import CriticalConstants, Species
 from ..thermo.units import UREG
+from .uncertainty import (
+    DATUM_KINDS, SETTINGS_KEYS, UncertaintyDefaults, UncertaintyInputError, UncertaintySettings, parameter_map,
+    settings_from_mapping,
+)
 
 LAYOUT_ID = "eqdesign-case/1"
 GAS_MODELS = ("ideal", "peng-robinson")
@@ -62,7 +66,7 @@ FEED_KEYS = ("composition", "flow")
 CONDITIONS_KEYS = ("temperature", "pressure")
 GRID_KEYS = ("low", "high", "points")
 SPAN_KEYS = ("low", "high")
-STUDY_KEYS = ("conversion_map", "targets", "pressure_options", "staged_beds", "carbon_limit")
+STUDY_KEYS = ("conversion_map", "targets", "pressure_options", "staged_beds", "carbon_limit", "uncertainty")
 MAP_KEYS = ("composition_at", "feed_ratio")
 TARGET_KEYS = ("label", "conversion", "solve_for", "pressure", "temperature", "search", "feed_ratio")
 RATIO_KEYS = ("vary", "per", "low", "high", "points", "values")
@@ -71,8 +75,14 @@ BEDS_KEYS = ("inlet_temperature", "beds", "target", "pressure", "interstage_remo
 CARBON_KEYS = ("feed_ratio", "pressure", "temperature")
 OUTPUT_KEYS = ("plots", "tables", "report")
 USER_SPECIES_KEYS = ("formula", "phase", "source", "critical", "formation_data", "reaction_data")
-FORMATION_KEYS = ("enthalpy", "entropy", "cp", "valid")
-REACTION_DATA_KEYS = ("reaction", "enthalpy", "entropy", "K", "at", "cp_change", "valid")
+FORMATION_KEYS = ("enthalpy", "entropy", "cp", "valid", "uncertainty")
+REACTION_DATA_KEYS = ("reaction", "enthalpy", "entropy", "K", "at", "cp_change", "valid", "uncertainty")
+#: Standard uncertainties a species of the case file may carry (formation or reaction data).
+USER_UNCERTAINTY_KEYS = ("enthalpy", "entropy")
+#: The ``studies.uncertainty`` block (read by :func:`eqdesign.solve.uncertainty.settings_from_mapping`).
+UNCERTAINTY_KEYS = SETTINGS_KEYS
+#: Data kinds of ``studies.uncertainty.overrides.SPECIES``.
+UNCERTAINTY_OVERRIDE_KEYS = DATUM_KINDS
 CRITICAL_KEYS = ("Tc", "Pc", "omega")
 
 
@@ -323,11 +333,21 @@ class CarbonLimitStudy:
 
 @dataclass(frozen=True)
 class Studies:
+    """The studies of a case.
+
+    ``uncertainty`` (None: off) propagates the uncertainty of the species data to the
+    conversion map (a band at each pressure option) and to every temperature target (an
+    interval); its ``overrides`` already hold, by database name, the uncertainties given
+    with the case's own species as well as those of ``studies.uncertainty.overrides``, and
+    ``defaults_file`` is resolved against the case file's folder.
+    """
+
     conversion_map: ConversionMapStudy | None = None
     targets: tuple = ()
     pressure_options: PressureOptionsStudy | None = None
     staged_beds: StagedBedsStudy | None = None
     carbon_limit: CarbonLimitStudy | None = None
+    uncertainty: UncertaintySettings | None = None
 
     @property
     def names(self) -> list[str]:
@@ -342,6 +362,11 @@ class Studies:
             out.append("staged beds")
         if self.carbon_limit:
             out.append("carbon limit")
+        if self.uncertainty:
+            u = self.uncertainty
+            how = (f"Monte Carlo, {u.samples} draws, " + (f"seed {u.seed}" if u.seed is not None else "no fixed seed")
+                   if u.method == "monte-carlo" else "linearised")
+            out.append(f"data uncertainty ({how}, {100 * u.level:.3g} % intervals)")
         return out
 
 
@@ -361,6 +386,9 @@ class UserSpeciesRecord:
     source: str
     detail: str        # the numbers as given, for the report
     species: Species = field(repr=False)
+    #: Standard uncertainties given with the data: {"formation_enthalpy" | "reaction_enthalpy": J/mol,
+    #: "entropy" | "reaction_entropy": J/(mol K)} (empty: the defaults apply).
+    uncertainty: dict = field(default_factory=dict)
 
 
 @dataclass(frozen=True)
@@ -1065,7 +1093,9 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
     # ------------------------------------------------------------------ studies
     ctx = _StudyContext(db=db, feed=feed, species=species, key=key, temperature=temperature,
                         pressures=pressures, records=records, reactions=parsed_reactions,
-                        solver_reactions=solver_reactions)
+                        solver_reactions=solver_reactions,
+                        user_uncertainty={u.name: dict(u.uncertainty) for u in user_records if u.uncertainty},
+                        folder=Path(ck.file).parent)
     studies = _studies(doc, ck, ctx) if "studies" in doc else None
 
     # ------------------------------------------------------------------ output
@@ -1360,7 +1390,8 @@ def _formation_species(ck, sec, name, path, phase, source, critical) -> UserSpec
     s = ck.quantity(f, "entropy", f"{fpath}.entropy", "molar_entropy")
     cp = _cp_coefficients(ck, f, "cp", f"{fpath}.cp")
     bounds = _valid_range(ck, f, fpath, (T_REF, 1500.0))
-    if None in (dh, s, cp, bounds):
+    unc = _data_uncertainty(ck, f, fpath, ("formation_enthalpy", "entropy"))
+    if None in (dh, s, cp, bounds, unc):
         return None
     if s <= 0:
         ck.add(f"{fpath}.entropy", "a standard entropy is positive (third law)", ck.line_of(f, "entropy"))
@@ -1376,8 +1407,49 @@ def _formation_species(ck, sec, name, path, phase, source, critical) -> UserSpec
     if critical is not None:
         sp = _with_critical(sp, critical)
     detail = (f"ΔfH°(298.15 K) = {dh / 1000:g} kJ/mol, S° = {s:g} J/(mol K), cp coefficients {list(cp)}, "
-              f"valid {bounds[0]:g}-{bounds[1]:g} K")
-    return UserSpeciesRecord(name, "formation data", source, detail, sp)
+              f"valid {bounds[0]:g}-{bounds[1]:g} K" + _uncertainty_detail(unc))
+    return UserSpeciesRecord(name, "formation data", source, detail, sp, unc)
+
+
+_UNCERTAINTY_SYMBOLS = {"formation_enthalpy": ("ΔfH°", 1000.0, "kJ/mol"), "entropy": ("S°", 1.0, "J/(mol K)"),
+                        "reaction_enthalpy": ("ΔrH°", 1000.0, "kJ/mol"),
+                        "reaction_entropy": ("ΔrS°", 1.0, "J/(mol K)")}
+
+
+def _data_uncertainty(ck, parent, path, kinds: tuple) -> dict | None:
+    """Standard uncertainties given with a species' own data (``uncertainty: {enthalpy,
+    entropy}`` inside ``formation_data`` or ``reaction_data``), as {datum kind: SI value};
+    {} when none are given, None on a problem."""
+    if "uncertainty" not in parent:
+        return {}
+    upath = f"{path}.uncertainty"
+    m = ck.section(parent, "uncertainty", upath, USER_UNCERTAINTY_KEYS, what="uncertainty")
+    if m is None:
+        return None
+    out, ok = {}, True
+    for key, kind, unit_kind, example in (("enthalpy", kinds[0], "molar_energy", "'1.5 kJ/mol'"),
+                                          ("entropy", kinds[1], "molar_entropy", "'0.5 J/(mol K)'")):
+        if key not in m:
+            continue
+        v = ck.quantity(m, key, f"{upath}.{key}", unit_kind)
+        if v is None:
+            ok = False
+            continue
+        if v < 0:
+            ck.add(f"{upath}.{key}", f"{m[key]!r}: a standard uncertainty is zero or positive; give e.g. {example}",
+                   ck.line_of(m, key))
+            ok = False
+            continue
+        out[kind] = v
+    return out if ok else None
+
+
+def _uncertainty_detail(unc: dict) -> str:
+    parts = []
+    for kind, u in unc.items():
+        symbol, scale, unit = _UNCERTAINTY_SYMBOLS[kind]
+        parts.append(f"u({symbol}) = {u / scale:g} {unit}")
+    return ("; standard uncertainties " + ", ".join(parts)) if parts else ""
 
 
 def _with_critical(sp: Species, critical: CriticalConstants) -> Species:
@@ -1456,7 +1528,8 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
     if "cp_change" in r:
         dcp = _cp_coefficients(ck, r, "cp_change", f"{rpath}.cp_change")
     bounds = _valid_range(ck, r, rpath, (200.0, 3000.0))
-    if None in (dh, t_ref, dcp, bounds):
+    unc = _data_uncertainty(ck, r, rpath, ("reaction_enthalpy", "reaction_entropy"))
+    if None in (dh, t_ref, dcp, bounds, unc):
         return None
     dn = float(sum(nu for sp, nu in partners if sp.is_gas) + (nu_x if phase == "gas" else 0.0))
     if has_k:
@@ -1485,8 +1558,8 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
                  molar_mass=molar_mass_of(elements), model=model, critical=critical, reference=source,
                  data_note=f"derived from reaction data: {text}")
     detail = (f"{text}: ΔrH° = {dh / 1000:g} kJ/mol, {shown}, ΔrCp coefficients {list(dcp)}, valid "
-              f"{model.T_min:g}-{model.T_max:g} K")
-    return UserSpeciesRecord(name, "reaction data", source, detail, sp)
+              f"{model.T_min:g}-{model.T_max:g} K" + _uncertainty_detail(unc))
+    return UserSpeciesRecord(name, "reaction data", source, detail, sp, unc)
 
 
 # ====================================================================== studies
@@ -1501,6 +1574,8 @@ class _StudyContext:
     records: list
     reactions: list
     solver_reactions: bool
+    user_uncertainty: dict = field(default_factory=dict)   # {user species: {datum kind: u [SI]}}
+    folder: Path = Path(".")                               # folder of the case file
 
 
 def _studies(doc, ck: _Checker, ctx: _StudyContext) -> Studies | None:
@@ -1514,7 +1589,7 @@ def _studies(doc, ck: _Checker, ctx: _StudyContext) -> Studies | None:
         ck.add("studies", "no study is selected; add at least 'conversion_map: {}'", sec.line)
         return None
     n_before = len(ck.problems)
-    conv_map = targets = popt = beds = carbon = None
+    conv_map = targets = popt = beds = carbon = unc = None
     if "conversion_map" in sec:
         conv_map = _conversion_map(sec, ck, ctx)
     if "targets" in sec:
@@ -1525,10 +1600,144 @@ def _studies(doc, ck: _Checker, ctx: _StudyContext) -> Studies | None:
         beds = _staged_beds(sec, ck, ctx)
     if "carbon_limit" in sec:
         carbon = _carbon_limit(sec, ck, ctx)
+    if "uncertainty" in sec:
+        unc = _uncertainty(sec, ck, ctx)
+        if "conversion_map" not in sec and (targets is not None or "targets" not in sec) and \
+                not any(q.solve_for == "temperature" for q in targets or ()):
+            ck.add("studies.uncertainty", "acts on the conversion map (a band at each pressure option) and on "
+                   "temperature targets (an interval on each answer), and the case has neither; add "
+                   "conversion_map: {} or a target with solve_for: temperature, or write uncertainty: false",
+                   ck.line_of(sec, "uncertainty"))
     if len(ck.problems) > n_before:
         return None
     return Studies(conversion_map=conv_map, targets=tuple(targets or ()), pressure_options=popt,
-                   staged_beds=beds, carbon_limit=carbon)
+                   staged_beds=beds, carbon_limit=carbon, uncertainty=unc)
+
+
+# ---------------------------------------------------------------------- data uncertainty
+def _uncertainty(sec, ck: _Checker, ctx: _StudyContext) -> UncertaintySettings | None:
+    """The ``studies.uncertainty`` switch: settings checked by the uncertainty module
+    (:func:`eqdesign.solve.uncertainty.settings_from_mapping`), each of its problem lines
+    turned into a case problem with the line of its key; then the overrides checked against
+    the case's species (names, data kinds, a default for every datum) and merged with the
+    uncertainties given with the case's own species."""
+    path = "studies.uncertainty"
+    line = ck.line_of(sec, "uncertainty")
+    block = sec["uncertainty"]
+    if block is True or block is None:                    # 'uncertainty: true' or '{}': the defaults
+        block = _Map(line=line)
+    if isinstance(block, Mapping):
+        ck.duplicates(block, path)
+        ov = block.get("overrides")
+        if isinstance(ov, Mapping):
+            ck.duplicates(ov, f"{path}.overrides")
+            for name, entry in ov.items():
+                if isinstance(entry, Mapping):
+                    ck.duplicates(entry, f"{path}.overrides.{name}")
+    try:
+        settings = settings_from_mapping(block, where=path)
+    except UncertaintyInputError as exc:
+        settings = None
+        for text in str(exc).splitlines():
+            key, _, message = text.partition(": ")
+            if not key.startswith(path):
+                key, message = path, text
+            ck.add(key, _with_fix(key, message), _line_of_path(ck, block, key[len(path):], line))
+    reported = {p.key for p in ck.problems}
+    # the species named in the overrides (checked even when a value has a problem)
+    merged: dict[str, dict] = {n: dict(u) for n, u in ctx.user_uncertainty.items()}
+    with_data = {(n, k) for n, u in ctx.user_uncertainty.items() for k in u}
+    overrides = block.get("overrides") if isinstance(block, Mapping) else None
+    ok = settings is not None
+    try:                                                  # species whose data enter the case's results
+        involved = {d.species for d in parameter_map(ctx.species, database=ctx.db).data} if ctx.records else set()
+    except UncertaintyInputError:
+        involved = None                                   # a missing default: reported below
+    for raw, entry in (overrides.items() if isinstance(overrides, Mapping) and ctx.records else ()):
+        opath, oline = f"{path}.overrides.{raw}", ck.line_of(overrides, raw)
+        name = _resolve(ck, ctx.db, raw, opath, oline)
+        if name is None:
+            ok = False
+            continue
+        if involved is not None and name not in involved:
+            ck.add(opath, f"{name} is not a species of this case, so its uncertainty cannot matter; remove it or add "
+                   f"{name} to chemistry.species", oline)
+            ok = False
+            continue
+        for k, v in (entry.items() if isinstance(entry, Mapping) else ()):
+            kpath, kline = f"{opath}.{k}", ck.line_of(entry, k)
+            if k not in DATUM_KINDS:
+                continue                                  # reported by the settings check
+            if (name, k) in with_data:
+                ck.add(kpath, f"the {k} uncertainty of {name} is also given with its data under user_species.{name}; "
+                       "keep one", kline)
+                ok = False
+                continue
+            if k in merged.get(name, {}):
+                ck.add(kpath, f"names {name} again (as {raw}); give each species once", kline)
+                ok = False
+                continue
+            try:                                          # does the species take this kind of datum?
+                parameter_map([name], database=ctx.db, overrides={name: {k: 0.0}})
+            except UncertaintyInputError as exc:
+                text = str(exc)
+                if text.startswith("overrides."):     # otherwise a missing default: checked below
+                    text = text.partition(": ")[2]
+                    ck.add(kpath, text + ("; use those keys" if " takes " in text else ""), kline)
+                    ok = False
+                    continue
+            if kpath not in reported:
+                merged.setdefault(name, {})[k] = v
+    if not ok:
+        return None
+    defaults = None
+    if settings.defaults_file:
+        file = Path(settings.defaults_file)
+        if not file.is_absolute():
+            file = ctx.folder / file
+        try:
+            defaults = UncertaintyDefaults.from_file(file)
+        except UncertaintyInputError as exc:
+            ck.add(f"{path}.defaults", f"{exc}; give the path of a file of the layout of "
+                   "eqdesign/data/uncertainty_defaults.yaml, relative to the case file", ck.line_of(block, "defaults"))
+            return None
+        settings = replace(settings, defaults_file=str(file))
+    if not ctx.records:
+        return settings                                   # the species have problems of their own
+    try:                                                  # a standard uncertainty for every datum
+        parameter_map(ctx.species, database=ctx.db, overrides=merged or None, defaults=defaults)
+    except UncertaintyInputError as exc:
+        ck.add(path, str(exc), line)
+        return None
+    return replace(settings, overrides=merged)
+
+
+def _with_fix(key: str, message: str) -> str:
+    """A problem line of the uncertainty module with a fix added where it names none."""
+    if any(word in message for word in ("give ", "use ", "write ", "remove ", "choose ")):
+        return message
+    last = key.rsplit(".", 1)[-1]
+    if last == "method":
+        return message + "; write method: monte-carlo or method: linear"
+    if last in ("formation_enthalpy", "reaction_enthalpy"):
+        return message + "; give a standard uncertainty such as '0.4 kJ/mol'"
+    if last in ("entropy", "reaction_entropy"):
+        return message + "; give a standard uncertainty such as '0.1 J/(mol K)'"
+    return message
+
+
+def _line_of_path(ck: _Checker, block, rest: str, line) -> int | None:
+    """Line of the key at ``rest`` (".overrides.NH3.entropy") inside ``block``."""
+    node = block
+    for part in [p for p in rest.split(".") if p]:
+        if not isinstance(node, Mapping):
+            break
+        match = next((k for k in node if str(k) == part), None)
+        if match is None:
+            break
+        line = ck.line_of(node, match) or line
+        node = node[match]
+    return line
 
 
 def _optional_section(sec, key, ck, path, allowed, required=()):

@@ -8,6 +8,7 @@ figure stays readable when printed in grey.
 from __future__ import annotations
 
 import io
+from dataclasses import replace
 from typing import Iterable, Sequence
 
 import matplotlib
@@ -71,8 +72,14 @@ def render(fig: Figure, fmt: str, dpi: int = PNG_DPI) -> bytes:
 def conversion_vs_temperature(T: np.ndarray, curves: Sequence[tuple[str, np.ndarray]], *, key: str,
                               target: float | None = None,
                               design_points: Iterable[tuple[str, float, float]] = (),
-                              title: str = "", approach: float = 0.0) -> Figure:
+                              title: str = "", approach: float = 0.0, bands: Sequence = (),
+                              intervals: Sequence[tuple[object, int]] = ()) -> Figure:
     """Equilibrium conversion of ``key`` against temperature, one curve per series.
+
+    With ``bands`` and ``intervals`` the figure also carries the uncertainty from the
+    species data: each band is a light grey, hatched fill with dashed edges under its
+    curve (one legend entry for all), each interval a horizontal error bar with a diamond
+    at the design temperature, so neither rests on colour.
 
     Parameters
     ----------
@@ -89,15 +96,27 @@ def conversion_vs_temperature(T: np.ndarray, curves: Sequence[tuple[str, np.ndar
         labels short (e.g. the temperature).
     approach : float
         Approach margin [K] used, noted in the axis label.
+    bands : sequence of eqdesign.solve.uncertainty.Band, optional
+        Interval of the conversion [-] against operating temperature [K] (one per curve).
+    intervals : sequence of (TemperatureUncertainty, index[, colour]), optional
+        Temperature answers [K] with their intervals, marked at the target conversion (in
+        the colour of their curve; the caps and the labels of ``design_points`` carry the
+        numbers in greyscale).
     """
+    from .uncertainty_plot import draw_band, draw_temperature_interval
     fig, ax = _figure(title or f"Equilibrium conversion of {key} against temperature")
     x = _celsius(T)
+    for i, band in enumerate(bands):
+        draw_band(ax, band, label=f"data uncertainty: {band.label}" if i == 0 else "_nolegend_",
+                  nominal_label=None, percent=True, celsius=True, alpha=0.4, edge="0.5")
     for i, (label, conv) in enumerate(curves):
         ax.plot(x, 100.0 * np.asarray(conv, dtype=float), label=label, markevery=_markevery(x.size),
                 **series_style(i))
     if target is not None:
         ax.axhline(100.0 * target, color="black", linewidth=1.2, linestyle=(0, (4, 3)),
                    label=f"target {100 * target:.4g} %")
+    design_points = list(design_points)
+    step = 11 * max((lab.count("\n") + 1 for lab, _, _ in design_points), default=1) + 2
     for j, (label, T_pt, x_pt) in enumerate(design_points):
         if not (np.isfinite(T_pt) and np.isfinite(x_pt)):
             continue
@@ -105,12 +124,23 @@ def conversion_vs_temperature(T: np.ndarray, curves: Sequence[tuple[str, np.ndar
                 markerfacecolor="#f2c14e", linestyle="none", zorder=5,
                 label="design point" if j == 0 else None)
         ax.annotate(label, (T_pt - ZERO_CELSIUS, 100.0 * x_pt), textcoords="offset points",
-                    xytext=(0, -16 - 11 * (j % 2)), ha="center", va="top", fontsize=9,
+                    xytext=(0, -16 - step * (j % 2)), ha="center", va="top", fontsize=9,
                     bbox=dict(boxstyle="round,pad=0.15", facecolor="white", edgecolor="none", alpha=0.8))
+    for item in intervals:
+        answer, index = item[0], item[1]
+        # a zero-width interval may put an end a rounding error past the answer; matplotlib
+        # refuses negative error-bar lengths, so the ends are clipped to the answer
+        answer = replace(answer, lower=np.fmin(answer.lower, answer.T), upper=np.fmax(answer.upper, answer.T))
+        draw_temperature_interval(ax, answer, at=index, percent=True, celsius=True,
+                                  color=item[2] if len(item) > 2 else "black")
     ax.set_xlabel("operating temperature [°C]" + (f"  (equilibrium taken with a {approach:g} K approach)"
                                                   if approach else ""), fontsize=11)
     ax.set_ylabel(f"equilibrium conversion of {key} [%]", fontsize=11)
-    ax.legend(fontsize=9, loc="best", frameon=True)
+    handles, labels = ax.get_legend_handles_labels()
+    seen: dict = {}
+    for h, lab in zip(handles, labels):          # one entry per label (intervals repeat theirs)
+        seen.setdefault(lab, h)
+    ax.legend(list(seen.values()), list(seen), fontsize=9, loc="best", frameon=True)
     return fig
 
 

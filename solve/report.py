@@ -44,6 +44,7 @@ body { font-family: "DejaVu Sans", Arial, Helvetica, sans-serif; margin: 2em aut
 h1 { font-size: 1.7em; border-bottom: 3px solid #1f3b73; padding-bottom: .3em; }
 h2 { font-size: 1.3em; margin-top: 2em; border-bottom: 1px solid #999; padding-bottom: .2em; }
 h3 { font-size: 1.05em; margin-top: 1.4em; }
+h4 { font-size: .95em; margin-top: 1.1em; }
 table { border-collapse: collapse; margin: .6em 0 1em 0; font-size: .88em; }
 th, td { border: 1px solid #b0b0b0; padding: .25em .55em; text-align: right; vertical-align: top; }
 th { background: #e8ebf2; text-align: center; }
@@ -190,6 +191,13 @@ def _inputs(case) -> str:
                      + (f"; target {100 * b.target:g} %" if b.target else "")
                      + "".join(f"; after bed {k} remove " + ", ".join(f"{100 * f:g} % of {n}" for n, f in v.items())
                                for k, v in b.removal.items())])
+    if s.uncertainty:
+        u = s.uncertainty
+        rows.append(["data uncertainty", (f"Monte Carlo, {u.samples} draws, "
+                                          + (f"seed {u.seed}" if u.seed is not None else "no fixed seed")
+                                          if u.method == "monte-carlo" else "linearised")
+                     + f"; {100 * u.level:.3g} % intervals on the conversion map and the temperature targets"
+                     + (f"; own uncertainties for {', '.join(sorted(u.overrides))}" if u.overrides else "")])
     if s.carbon_limit:
         cl = s.carbon_limit
         rows.append(["carbon limit", f"{cl.feed_ratio.label} " + ", ".join(f"{v:g}" for v in cl.feed_ratio.values)
@@ -223,10 +231,126 @@ def _assumptions(case) -> str:
         items.append("Staged beds: each bed adiabatic with no heat loss and reaching its adiabatic equilibrium "
                      "(with the approach margin if one is set); the gas is cooled back to the inlet temperature "
                      "between beds without reaction.")
+    if case.studies.uncertainty:
+        items.append("Data uncertainty: only the species data (ΔfH°, S°) are uncertain; the data of different "
+                     "species are independent. See the section on uncertainty.")
     if case.studies.carbon_limit:
         items.append("Carbon limit: graphite is stable where the gas, equilibrated without carbon, implies a "
                      "graphite activity above 1 (thermodynamic limit only).")
     return "<h2>Assumptions</h2><ul>" + "".join(f"<li>{i}</li>" for i in items) + "</ul>"
+
+
+def _result_table(t, case, heading: str = "h3") -> str:
+    """A results table with its title, and a note saying where all of it is."""
+    out = [f"<{heading}>{_e(t.title)}</{heading}>", _table_html(t.columns, t.rows, every=t.html_every)]
+    note = t.note
+    if t.html_every > 1:
+        note = (note + " " if note else "") + f"One row in {t.html_every} shown; all rows in {t.name}.csv."
+    elif case.output.tables:
+        note = (note + " " if note else "") + f"Also in {t.name}.csv."
+    if note:
+        out.append(f'<p class="note">{_e(note)}</p>')
+    return "".join(out)
+
+
+def _end(x: float) -> str:
+    if math.isinf(x):
+        return "beyond the search range" if x > 0 else "below the search range"
+    return f"{x - ZERO_CELSIUS:.1f} degC" if math.isfinite(x) else "–"
+
+
+def _uncertainty_section(result) -> str:
+    """The data-uncertainty section: method, draws, seed, coverage, assumptions, the
+    design temperatures with their intervals, the sensitivity rankings, the band, the
+    standard uncertainties used with their sources, and the caution.  Self-contained:
+    citations are text, nothing is linked or loaded."""
+    from .uncertainty import ASSUMPTIONS, CAUTION
+    u = result.uncertainty
+    case = result.case
+    tables = {t.name: t for t in result.tables if t.section == "uncertainty"}
+    lo_pct, hi_pct = 50.0 * (1.0 - u.level), 100.0 - 50.0 * (1.0 - u.level)
+    h = ["<h2>Uncertainty from the species data</h2>"]
+    if u.method == "monte-carlo":
+        method = ("Monte Carlo propagation of distributions (JCGM 101:2008, Supplement 1 to the Guide to the "
+                  "expression of uncertainty in measurement, BIPM 2008)")
+        draws = f"{u.samples} draws of every uncertain datum, each draw solved at every state"
+        seed = (f"{u.seed} (numpy default_rng; the same seed reproduces these numbers)" if u.seed is not None
+                else "none (fresh random numbers: a rerun gives slightly different intervals)")
+        cover = (f"{u.level_text}: from the {lo_pct:.3g}th to the {hi_pct:.3g}th percentile of the draws "
+                 "(draws that did not converge are left out)")
+    else:
+        method = ("linearised propagation, the law of propagation of uncertainty of the GUM (JCGM 100:2008, "
+                  "BIPM 2008), sensitivity coefficients by central differences")
+        draws = "none (linearised: no random draws)"
+        seed = "not used (linearised)"
+        cover = f"{u.level_text}: nominal answer ± k u with k from the normal distribution"
+    h.append(_facts([
+        ("method", method), ("draws", draws), ("random seed", seed), ("coverage of the intervals", cover),
+        ("uncertain data", "standard enthalpy of formation ΔfH° and standard entropy S° at 298.15 K of every "
+                           "species (ΔrH° and ΔrS° for a species defined by reaction data)"),
+        ("assumptions", ASSUMPTIONS),
+    ]))
+    h.append("<p>The data of different species are treated as independent. Errors shared between species (for "
+             "example a common calorimetric reference) would widen or narrow the intervals; the ranking below "
+             "shows which data matter.</p>")
+    if u.intervals:
+        h.append("<h3>Design temperatures with their intervals</h3><ul>")
+        for e in u.intervals:
+            head = f"{_e(e['label'])} at {e['P'] / 1e5:g} bar: "
+            if not math.isfinite(e["T"]):
+                h.append(f"<li>{head}not reached in the search range (no interval).</li>")
+                continue
+            if math.isnan(e["lower"]) and math.isnan(e["upper"]):
+                h.append(f"<li>{head}{e['T'] - ZERO_CELSIUS:.1f} degC, the end of the search range: the target is "
+                         "met over all of it, so the data fix no interval; widen the search range.</li>")
+                continue
+            text = (f"<b>{e['T'] - ZERO_CELSIUS:.1f} degC</b> ({e['T']:.1f} K); {u.level_text} interval "
+                    f"<b>{_end(e['lower'])} to {_end(e['upper'])}</b>"
+                    + (f", u(T) = {e['u']:.2f} K" if math.isfinite(e["u"]) else ""))
+            if e["beyond"] > 0:
+                text += (f". {100 * e['beyond']:.3g} % of the draws reach the target only beyond the search range; "
+                         "widen it to close the interval")
+            odds = (f"in at least {hi_pct:.3g} % of the data draws" if u.method == "monte-carlo" else
+                    f"with a one-sided probability of {hi_pct:.3g} % (linearised, normal)")
+            if e["falls"] is True and math.isfinite(e["lower"]):
+                text += (f". Conversion falls with temperature here: at or below {_end(e['lower'])} the target is "
+                         f"reached {odds}")
+            elif e["falls"] is False and math.isfinite(e["upper"]):
+                text += (f". Conversion rises with temperature here: at or above {_end(e['upper'])} the target is "
+                         f"reached {odds}")
+            h.append(f"<li>{head}{text}.</li>")
+        h.append("</ul>")
+        if "temperature_intervals" in tables:
+            h.append(_result_table(tables["temperature_intervals"], case, "h3"))
+    if u.untreated:
+        h.append('<p class="note">No interval for ' + ", ".join(_e(x) for x in u.untreated)
+                 + ": the uncertainty is propagated to temperature answers and to the conversion map only.</p>")
+    h.append("<h3>Sensitivity ranking: which species' data move the answers most</h3>")
+    for name in ("uncertainty_ranking_temperature", "uncertainty_ranking_conversion"):
+        if name in tables:
+            h.append(_result_table(tables[name], case, "h4"))
+    if "conversion_band_by_temperature" in tables:
+        h.append("<h3>Conversion band</h3>")
+        fig_no = next((i for i, f in enumerate(result.figures, 1) if f.name == u.band_figure), None)
+        if fig_no:
+            h.append(f"<p>Figure {fig_no} draws these bands around the conversion curves and marks each design "
+                     "temperature with its interval.</p>")
+        h.append(_result_table(tables["conversion_band_by_temperature"], case, "h4"))
+        if "conversion_band" in tables and case.output.tables:
+            h.append(f'<p class="note">Every point with median and standard uncertainty: conversion_band.csv '
+                     f"({len(tables['conversion_band'].rows)} rows).</p>")
+    if "uncertainty_data" in tables:
+        h.append(_result_table(tables["uncertainty_data"], case, "h3"))
+    notes = [f"{_e(k)}: {_e(c)}." for k, c in u.references]
+    for name, basis in u.classes:
+        notes.append(f"Class '{_e(name)}': {_e(basis)}")
+    if any(d.origin == "user" for d in u.data):
+        notes.append("'user': given in this case file (studies.uncertainty.overrides, or with the case's own "
+                     "species data).")
+    notes.append(f"Key values and class defaults read from {_e(u.defaults_origin)}.")
+    h.append("<p><b>Sources of the standard uncertainties.</b> " + " ".join(notes) + "</p>")
+    h.append(f'<div class="caution"><p><b>Caution.</b> {_e(CAUTION)}</p></div>')
+    return "".join(h)
 
 
 def build_report(result, images: dict | None = None) -> str:
@@ -269,18 +393,10 @@ def build_report(result, images: dict | None = None) -> str:
 
     h.append("<h2>Results</h2>")
     for t in result.tables:
-        if not t.in_report or t.name in ("data_provenance", "solver_diagnostics"):
+        if not t.in_report or t.section != "results" or t.name in ("data_provenance", "solver_diagnostics"):
             continue
-        h.append(f"<h3>{_e(t.title)}</h3>")
-        h.append(_table_html(t.columns, t.rows, every=t.html_every))
-        note = t.note
-        if t.html_every > 1:
-            note = (note + " " if note else "") + f"One row in {t.html_every} shown; all rows in {t.name}.csv."
-        elif case.output.tables:
-            note = (note + " " if note else "") + f"Also in {t.name}.csv."
-        if note:
-            h.append(f'<p class="note">{_e(note)}</p>')
-    hidden = [t for t in result.tables if not t.in_report]
+        h.append(_result_table(t, case))
+    hidden = [t for t in result.tables if not t.in_report and t.section == "results"]
     if hidden and case.output.tables:
         h.append('<p class="note">Full grids, not shown here: ' + ", ".join(
             f"{_e(t.name)}.csv ({len(t.rows)} rows: {_e(t.title)})" for t in hidden) + ".</p>")
@@ -290,6 +406,9 @@ def build_report(result, images: dict | None = None) -> str:
         for i, f in enumerate(result.figures, 1):
             h.append(f"<figure>{_img(f.figure, images.get(f.name))}<figcaption><b>Figure {i}. {_e(f.title)}.</b> "
                      f"{_e(f.caption)}</figcaption></figure>")
+
+    if result.uncertainty is not None:
+        h.append(_uncertainty_section(result))
 
     h.append("<h2>Data provenance</h2>")
     prov = result.table("data_provenance")

@@ -20,6 +20,7 @@ import io
 import json
 import math
 import os
+import re
 import shutil
 import tempfile
 import time
@@ -40,6 +41,13 @@ from .equilibrium import NotConvergedWarning, equilibrium
 ZERO_CELSIUS = 273.15
 #: Reduced resolution (``coarse=True``): at most this many temperatures in a grid.
 COARSE_POINTS = 13
+#: At most this many temperatures in a data-uncertainty band (the band is smooth; every
+#: temperature costs ``samples`` solves per pressure option).
+BAND_POINTS = 41
+#: Entries of each sensitivity ranking.
+RANKING_TOP = 10
+#: Data with a smaller share of the variance [-] are left out of a ranking (inert species).
+RANKING_MIN_SHARE = 1e-6
 
 ProgressFactory = Callable[[str], Callable[[int, int], None]]
 
@@ -64,6 +72,8 @@ class Table:
     note: str = ""
     html_every: int = 1
     in_report: bool = True
+    #: Report section that shows the table: "results", or "uncertainty" (the data-uncertainty section).
+    section: str = "results"
 
 
 @dataclass
@@ -88,6 +98,64 @@ class SolverCheck:
 
 
 @dataclass
+class UncertaintyRecord:
+    """What the report states about the propagation of the species-data uncertainty.
+
+    Attributes
+    ----------
+    method : str
+        ``"monte-carlo"`` or ``"linear"``.
+    samples : int
+        Monte Carlo draws (0 for the linearised method).
+    seed : int | None
+        Seed of the random draws (None: fresh entropy, not reproducible; linearised: unused).
+    level : float
+        Coverage probability of the intervals [-].
+    data : tuple[UncertainDatum, ...]
+        Every uncertain datum of the system with its standard uncertainty and origin.
+    intervals : list[dict]
+        One entry per temperature answer: ``label``, ``P`` [Pa], ``T``, ``lower``, ``median``,
+        ``upper`` [K], ``u`` [K], ``beyond`` (share of draws beyond the search range [-]),
+        ``falls`` (conversion falls with temperature through the answer; None if unknown).
+    references : list[tuple[str, str]]
+        (key, citation) of the key values used.
+    classes : list[tuple[str, str]]
+        (class, basis) of the class defaults used.
+    defaults_origin : str
+        The defaults file.
+    band_figure : str | None
+        Name of the figure carrying the conversion bands.
+    untreated : list[str]
+        Labels of target questions without an interval (pressure and feed-ratio answers).
+    """
+
+    method: str
+    samples: int
+    seed: int | None
+    level: float
+    data: tuple
+    intervals: list
+    references: list
+    classes: list
+    defaults_origin: str
+    band_figure: str | None = None
+    untreated: list = field(default_factory=list)
+
+    @property
+    def level_text(self) -> str:
+        """``"95 %"``."""
+        return f"{100 * self.level:.3g} %"
+
+    @property
+    def how(self) -> str:
+        """``"Monte Carlo, 400 draws, seed 1"`` (``"no fixed seed"``) or ``"linearised"``."""
+        if self.method == "monte-carlo":
+            return f"Monte Carlo, {self.samples} draws, " + (f"seed {self.seed}" if self.seed is not None else
+                                                               "no fixed seed")
+        return "linearised"
+
+
+@dataclass
 class RunResult:
     """Everything a run produced, before anything is written."""
 
@@ -103,6 +171,7 @@ class RunResult:
     notes: list
     T_used: tuple                   # (lowest, highest) temperature evaluated [K]
     study_times: dict = field(default_factory=dict)
+    uncertainty: UncertaintyRecord | None = None
 
     @property
     def flagged(self) -> int:
@@ -233,6 +302,8 @@ def run_case(case: Case, *, coarse: bool = False, progress: ProgressFactory | No
         run.conversion_map()
     if s.targets:
         run.targets()
+    if s.uncertainty:
+        run.uncertainty()
     if s.conversion_map:
         run.conversion_figures()
     if s.pressure_options:
@@ -246,7 +317,7 @@ def run_case(case: Case, *, coarse: bool = False, progress: ProgressFactory | No
     return RunResult(case=case, started=started, elapsed=time.perf_counter() - t0, coarse=coarse,
                      tables=run.tables, figures=run.figures, findings=run.findings, checks=run.checks,
                      extrapolations=rec.extrapolations, notes=run.notes + rec.not_converged,
-                     T_used=(rec.T_min, rec.T_max), study_times=times)
+                     T_used=(rec.T_min, rec.T_max), study_times=times, uncertainty=run.uncertainty_record)
 
 
 class _Run:
@@ -270,6 +341,12 @@ class _Run:
         self.ratio_map = None
         self.design_points: list = []
         self.target_line = None
+        self.target_rows: list = []              # (question index, pressure index or None) per targets row
+        self.design_keys: list = []              # (question index, pressure index) per design point
+        self.temperature_answers: dict = {}      # question index -> (pressures [Pa], TemperatureAnswer)
+        self.bands: list = []                    # Band per pressure option (data uncertainty)
+        self.intervals: list = []                # (TemperatureUncertainty, index, colour) per temperature answer
+        self.uncertainty_record: UncertaintyRecord | None = None
 
     # --------------------------------------------------------------- shared
     def study(self, name: str) -> _Study:
@@ -334,6 +411,9 @@ class _Run:
 
     def add_table(self, table: Table) -> None:
         self.tables.append(table)
+
+    def table(self, name: str) -> Table:
+        return next(t for t in self.tables if t.name == name)
 
     def add_figure(self, name, title, caption, fig) -> None:
         self.figures.append(FigureRecord(name, title, caption, fig))
@@ -416,12 +496,22 @@ class _Run:
         conv = np.asarray(m.conversion)
         curves = [(f"{p / 1e5:g} bar", conv[:, j]) for j, p in enumerate(c.pressures)]
         fig = plots.conversion_vs_temperature(self.T_grid, curves, key=c.key, target=self.target_line,
-                                              design_points=self.design_points, approach=c.approach)
+                                              design_points=self.design_points, approach=c.approach,
+                                              bands=self.bands, intervals=self.intervals)
         cap = (f"Equilibrium conversion of {c.key} at each pressure option ({c.gas_model} gas"
                + (f", {c.approach:g} K approach margin" if c.approach else "") + ") for the case feed.")
         if self.design_points:
             cap += " Stars mark the answers of the temperature targets (pressure in brackets)."
+        u = self.uncertainty_record
+        if u is not None and self.bands:
+            cap += (f" Hatched grey bands with dashed edges: the {u.level_text} interval of the conversion from the "
+                    f"uncertainty of the species data ({u.how}).")
+        if u is not None and self.intervals:
+            cap += (f" Diamonds with whiskers: each design temperature with its {u.level_text} interval, at the "
+                    "target conversion.")
         self.add_figure("conversion_vs_temperature", f"Conversion of {c.key} against temperature", cap, fig)
+        if u is not None and self.bands:
+            u.band_figure = "conversion_vs_temperature"
         if getattr(self, "ratio_map", None) is not None:
             mr, ratios, P_r = self.ratio_map
             fr = st.feed_ratio
@@ -463,22 +553,25 @@ class _Run:
         kw = self.common()
         rows = []
         with self.study("target questions"):
-            for q in c.studies.targets:
+            for qi, q in enumerate(c.studies.targets):
                 if q.solve_for == "temperature":
                     Ps = [q.pressure] if q.pressure else list(c.pressures)
                     ans = temperature_for_conversion(list(c.species), c.feed, np.array(Ps), c.key, q.conversion,
                                                      T_range=q.search, **kw)
+                    self.temperature_answers[qi] = (Ps, ans)
                     Ts, reached = np.atleast_1d(ans.T), np.atleast_1d(ans.reached)
                     msgs = np.atleast_1d(ans.message)
                     xs = np.atleast_1d(ans.conversion_at_T)
                     best = np.atleast_1d(ans.best_conversion)
                     for i, P in enumerate(Ps):
+                        self.target_rows.append((qi, i))
                         rows.append([q.label, "temperature", f"{P / 1e5:g} bar", 100 * q.conversion,
                                      float(_c(Ts[i])) if reached[i] else float("nan"), "degC", bool(reached[i]),
                                      100 * float(best[i]), str(msgs[i])])
                         if reached[i]:
                             self.design_points.append((f"{Ts[i] - ZERO_CELSIUS:.0f} °C ({P / 1e5:g} bar)",
                                                        float(Ts[i]), float(xs[i])))
+                            self.design_keys.append((qi, i))
                             self.rec.temperatures(np.atleast_1d(ans.T_equilibrium)[i])
                         head = (f"{q.label} at {P / 1e5:g} bar: {_fmt_T(float(Ts[i]))}. " if reached[i] else
                                 f"{q.label} at {P / 1e5:g} bar: not reached. ")
@@ -489,6 +582,7 @@ class _Run:
                                                   P_range=q.search, **kw)
                     reached = bool(ans.reached)
                     self.rec.temperatures([q.temperature])
+                    self.target_rows.append((qi, None))
                     rows.append([q.label, "pressure", f"{q.temperature - ZERO_CELSIUS:g} degC", 100 * q.conversion,
                                  float(ans.P) / 1e5 if reached else float("nan"), "bar", reached,
                                  100 * float(ans.best_conversion), str(ans.message)])
@@ -501,6 +595,7 @@ class _Run:
                                                     ratio=_api_ratio(q.feed_ratio), ratio_range=(lo, hi), **kw)
                     reached = bool(ans.reached)
                     self.rec.temperatures([q.temperature])
+                    self.target_rows.append((qi, None))
                     rows.append([q.label, q.feed_ratio.label,
                                  f"{q.temperature - ZERO_CELSIUS:g} degC, {P / 1e5:g} bar", 100 * q.conversion,
                                  float(ans.ratio) if reached else float("nan"), "mol/mol", reached,
@@ -513,6 +608,225 @@ class _Run:
         self.add_table(Table("targets", "Target questions", cols, rows,
                              note="The answer is the operating value; with an approach margin the equilibrium "
                                   "is taken that many kelvin on the side that lowers conversion."))
+
+    # --------------------------------------------------------------- data uncertainty
+    def uncertainty(self) -> None:
+        """Propagate the uncertainty of the species data (ΔfH°, S°) to the conversion map
+        (one batched call over temperature × pressure option) and to every temperature
+        target (one call per question, all its pressures together); add the interval
+        columns to the targets table, the band and ranking tables, and the record the
+        report states."""
+        from .uncertainty import Band, UncertaintyDefaults, propagate_equilibrium, temperature_interval
+        c = self.case
+        st = c.studies.uncertainty
+        kw = st.as_kwargs()
+        defaults = kw.get("defaults") or UncertaintyDefaults.bundled()
+        common = dict(reactions=c.solver_reactions, gas_model=c.gas_model, approach=c.approach or None,
+                      database=self.db)
+        species = list(c.species)
+        band = None
+        answers: dict = {}
+        with self.study("data uncertainty"):
+            if self.map is not None:
+                T_b = _subsample(self.T_grid, BAND_POINTS)
+                TT, PP = np.meshgrid(T_b, np.array(c.pressures), indexing="ij")
+                band = propagate_equilibrium(species, c.feed, TT, PP, key=c.key, **common, **kw)
+                self.rec.temperatures(band.T_equilibrium)
+            for qi, q in enumerate(c.studies.targets):
+                if q.solve_for != "temperature":
+                    continue
+                Ps = [q.pressure] if q.pressure else list(c.pressures)
+                ti = temperature_interval(species, c.feed, np.array(Ps), c.key, q.conversion, T_range=q.search,
+                                          **common, **kw)
+                answers[qi] = (Ps, ti)
+                self._record_interval_temperatures(qi, ti)
+        first = band if band is not None else next((ti for _, ti in answers.values()), None)
+        if first is None:
+            return
+        record = UncertaintyRecord(
+            method=first.method, samples=first.samples, seed=first.seed, level=first.level, data=tuple(first.data),
+            intervals=[], references=_cited_references(first.data, defaults),
+            classes=_classes_used(first.data, defaults), defaults_origin=defaults.origin,
+            untreated=[q.label for q in c.studies.targets if q.solve_for != "temperature"])
+        self.uncertainty_record = record
+        lo_txt, hi_txt = f"lower {record.level_text}", f"upper {record.level_text}"
+        if band is not None:
+            self._band_tables(band, record, lo_txt, hi_txt)
+            self.bands = [Band(x=np.asarray(band.T, dtype=float)[:, j], nominal=self._q(band.nominal)[:, j],
+                               lower=self._q(band.lower)[:, j], median=self._q(band.median)[:, j],
+                               upper=self._q(band.upper)[:, j], level=band.level, quantity=f"conversion {c.key}",
+                               unit="-", x_label="temperature [K]", method=band.method, samples=band.samples)
+                          for j in range(len(c.pressures))]
+        if answers:
+            self._interval_tables(answers, record, lo_txt, hi_txt)
+        self._ranking_tables(band, answers, record)
+        rows = [[d.label, d.species, d.u, d.unit, d.origin] for d in record.data]
+        self.add_table(Table("uncertainty_data", "Standard uncertainties of the species data used",
+                             ["datum", "species", "u [unit of u]", "unit of u", "source of u"], rows,
+                             note="One standard deviation (GUM). Data of elements in their reference state have "
+                                  "ΔfH° = 0 exactly.", section="uncertainty"))
+
+    def _q(self, values: dict) -> np.ndarray:
+        return np.asarray(values[f"conversion {self.case.key}"], dtype=float)
+
+    def _record_interval_temperatures(self, qi: int, ti) -> None:
+        """Temperatures the interval search evaluated (for the data-provenance note)."""
+        Ps, ans = self.temperature_answers.get(qi, (None, None))
+        side = 0.0
+        if ans is not None and ti.approach:
+            d = np.asarray(ans.T_equilibrium, dtype=float) - np.asarray(ans.T, dtype=float)
+            d = d[np.isfinite(d)]
+            side = float(np.sign(d[0])) if d.size else 0.0
+        T = np.asarray(ti.sample_T if ti.sample_T is not None else [ti.lower, ti.upper], dtype=float)
+        self.rec.temperatures(T[np.isfinite(T)] + side * (ti.approach or 0.0))
+
+    def _band_tables(self, band, record: UncertaintyRecord, lo_txt: str, hi_txt: str) -> None:
+        c = self.case
+        q = f"conversion {c.key}"
+        T = np.asarray(band.T, dtype=float)
+        nom, lo, md, hi = (100.0 * self._q(d) for d in (band.nominal, band.lower, band.median, band.upper))
+        u = 100.0 * self._q(band.standard_uncertainty)
+        failed = np.asarray(band.n_failed, dtype=float)
+        T_eq = np.asarray(band.T_equilibrium, dtype=float)
+        rows = []
+        for i in range(T.shape[0]):
+            for j, p in enumerate(c.pressures):
+                row = [float(_c(T[i, j])), float(T[i, j]), p / 1e5]
+                if c.approach:
+                    row.append(float(_c(T_eq[i, j])))
+                row += [nom[i, j], lo[i, j], md[i, j], hi[i, j], u[i, j], int(failed[i, j])]
+                rows.append(row)
+        cols = ["T [degC]", "T [K]", "P [bar]"] + (["T equilibrium [degC]"] if c.approach else []) + \
+            [f"{q} [%]", f"{q} {lo_txt} [%]", f"{q} median [%]", f"{q} {hi_txt} [%]", f"u({q}) [% points]",
+             "draws failed [-]"]
+        self.add_table(Table("conversion_band", f"Equilibrium conversion of {c.key} with its {record.level_text} "
+                             "interval from the species data: every point", cols, rows, in_report=False,
+                             section="uncertainty", note="Long format, one row per temperature and pressure option."))
+        wide_cols = ["T [degC]"]
+        for p in c.pressures:
+            wide_cols += [f"{p / 1e5:g} bar [%]", f"{p / 1e5:g} bar {lo_txt} [%]", f"{p / 1e5:g} bar {hi_txt} [%]"]
+        wide = []
+        for i in range(T.shape[0]):
+            row = [float(_c(T[i, 0]))]
+            for j in range(len(c.pressures)):
+                row += [nom[i, j], lo[i, j], hi[i, j]]
+            wide.append(row)
+        self.add_table(Table("conversion_band_by_temperature", f"Equilibrium conversion of {c.key} with its "
+                             f"{record.level_text} interval, by temperature and pressure option", wide_cols, wide,
+                             html_every=max(1, len(wide) // 10), section="uncertainty",
+                             note=(f"Operating temperature; equilibrium taken with a {c.approach:g} K approach. "
+                                   if c.approach else "") + f"{record.how}."))
+        half = 0.5 * (hi - lo)
+        if np.isfinite(half).any():
+            k = np.unravel_index(np.nanargmax(half), half.shape)
+            self.findings.append(
+                f"Data uncertainty ({record.how}): the widest {record.level_text} interval of the equilibrium "
+                f"conversion of {c.key} over the map is {lo[k]:.1f}-{hi[k]:.1f} % around {nom[k]:.1f} % "
+                f"({_c(T[k]):.0f} degC, {c.pressures[k[1]] / 1e5:g} bar).")
+        n_failed = int(failed.sum())
+        self.checks.append(SolverCheck(
+            "data uncertainty: conversion band", int(failed.size * max(band.samples, 1)), n_failed, float("nan"),
+            (f"{band.samples} draws at each of {failed.size} states in one batched call" if band.samples else
+             f"linearised at {failed.size} states") + "; sensitivities by central differences in each g°"
+            + (f"; {n_failed} draw-state(s) did not converge and are left out of the percentiles" if n_failed
+               else "")))
+
+    def _interval_tables(self, answers: dict, record: UncertaintyRecord, lo_txt: str, hi_txt: str) -> None:
+        c = self.case
+        targets = self.table("targets")
+        at = targets.columns.index("answer unit") + 1
+        new_cols = [f"T {lo_txt} [degC]", f"T {hi_txt} [degC]", "u(T) [K]", "draws beyond search range [%]"]
+        targets.columns[at:at] = new_cols
+        for row, (qi, i) in zip(targets.rows, self.target_rows):
+            vals = [float("nan")] * len(new_cols)
+            if qi in answers and i is not None:
+                ti = answers[qi][1]
+                pick = (lambda v: float(np.asarray(v, dtype=float).reshape(-1)[i]))   # noqa: E731
+                vals = [pick(ti.lower) - ZERO_CELSIUS, pick(ti.upper) - ZERO_CELSIUS, pick(ti.standard_uncertainty),
+                        100.0 * pick(ti.beyond_range)]
+            row[at:at] = vals
+        targets.note += (f" Interval columns: the {record.level_text} interval of a temperature answer from the "
+                         f"uncertainty of the species data ({record.how}); pressure and feed-ratio answers carry "
+                         "none. A blank interval end lies beyond the search range (see the draws column), or the answer is "
+                         "the end of the search range and has no interval.")
+        rows = []
+        for qi, (Ps, ti) in answers.items():
+            q = c.studies.targets[qi]
+            ans = self.temperature_answers.get(qi, (None, None))[1]
+            flat = {k: np.asarray(getattr(ti, k), dtype=float).reshape(-1)
+                    for k in ("T", "lower", "median", "upper", "standard_uncertainty", "beyond_range", "n_failed")}
+            for i, P in enumerate(Ps):
+                T, lo, hi = flat["T"][i], flat["lower"][i], flat["upper"][i]
+                falls = _falls_with_temperature(ans, i)
+                end = lo if falls else hi if falls is not None else float("nan")
+                rows.append([q.label, P / 1e5, T - ZERO_CELSIUS, lo - ZERO_CELSIUS, flat["median"][i] - ZERO_CELSIUS,
+                             hi - ZERO_CELSIUS, flat["standard_uncertainty"][i],
+                             end - ZERO_CELSIUS, abs(T - end), 100.0 * flat["beyond_range"][i],
+                             int(flat["n_failed"][i])])
+                record.intervals.append(dict(label=q.label, P=P, T=T, lower=lo, median=flat["median"][i], upper=hi,
+                                             u=flat["standard_uncertainty"][i], beyond=flat["beyond_range"][i],
+                                             falls=falls))
+                if np.isfinite(T) and not (np.isnan(lo) and np.isnan(hi)):
+                    j = c.pressures.index(P) if P in c.pressures else None
+                    self.intervals.append((ti, i, plots.series_style(j)["color"] if j is not None else "black"))
+                    if (qi, i) in self.design_keys:       # the label of the design point gains the interval
+                        k = self.design_keys.index((qi, i))
+                        label, T_pt, x_pt = self.design_points[k]
+                        ends = [f"{v - ZERO_CELSIUS:.0f}" if np.isfinite(v) else "beyond" if np.isinf(v) else "?"
+                                for v in (lo, hi)]
+                        self.design_points[k] = (f"{label}\n{ends[0]}-{ends[1]} °C", T_pt, x_pt)
+            parts = []
+            for e in record.intervals[-len(Ps):]:
+                parts.append(f"at {e['P'] / 1e5:g} bar {_fmt_interval(e)}" if np.isfinite(e["T"]) else
+                             f"at {e['P'] / 1e5:g} bar not reached")
+            top = _ranked(ti.ranking())[:2]
+            lead = "; ".join(f"{e.datum.label} carries {100 * e.share:.0f} % of the variance" for e in top)
+            self.findings.append(f"Data uncertainty ({record.how}), {q.label}: " + ", ".join(parts)
+                                 + (f". {lead}." if lead else "."))
+            n_failed = int(np.nansum(flat["n_failed"]))
+            self.checks.append(SolverCheck(
+                f"data uncertainty: {q.label}", len(Ps) * max(ti.samples, 1), n_failed, float("nan"),
+                ("each draw's temperature by bracketed regula falsi, all draws together" if ti.samples else
+                 "linearised by implicit differentiation") + " (root tolerance 1e-7 K)"
+                + (f"; {n_failed} draw(s) failed and are left out" if n_failed else "")))
+        self.add_table(Table(
+            "temperature_intervals", f"Design temperatures with their {record.level_text} intervals from the "
+            "species data", ["question", "P [bar]", "T [degC]", f"T {lo_txt} [degC]", "T median [degC]",
+                             f"T {hi_txt} [degC]", "u(T) [K]", "conservative end [degC]", "margin from the data [K]",
+                             "draws beyond search range [%]", "draws failed [-]"], rows, section="uncertainty",
+            note="Conservative end: the end of the interval on the side where the target is still met for "
+                 "(nearly) every draw - the lower end where conversion falls with temperature, the upper end "
+                 "where it rises. Margin from the data: its distance from the nominal answer. T here is the "
+                 "nominal answer refined to 1e-7 K; it differs from the targets table by less than 0.01 K."))
+
+    def _ranking_tables(self, band, answers: dict, record: UncertaintyRecord) -> None:
+        c = self.case
+        cols_tail = ["sensitivity [{a} per unit of u]", "contribution [{a}]", "share of variance [%]"]
+        head = ["rank [-]", "datum", "species", "u [unit of u]", "unit of u", "source of u"]
+        if answers:
+            rows = []
+            for qi, (Ps, ti) in answers.items():
+                for e in _ranked(ti.ranking()):
+                    d = e.datum
+                    rows.append([c.studies.targets[qi].label, e.rank, d.label, d.species, d.u, d.unit, d.origin,
+                                 e.sensitivity, e.contribution, 100.0 * e.share])
+            self.add_table(Table("uncertainty_ranking_temperature", "Which data move the design temperatures most",
+                                 ["question"] + head + [t.format(a="K") for t in cols_tail], rows,
+                                 section="uncertainty",
+                                 note="First-order sensitivity coefficients (implicit differentiation, central "
+                                      "differences) times the standard uncertainties, averaged over the pressure "
+                                      "options of each question; contribution: the u(T) from that datum alone. "
+                                      + _RANKING_NOTE))
+        if band is not None:
+            rows = []
+            for e in _ranked(band.ranking(f"conversion {c.key}")):
+                d = e.datum
+                rows.append([e.rank, d.label, d.species, d.u, d.unit, d.origin, 100.0 * e.sensitivity,
+                             100.0 * e.contribution, 100.0 * e.share])
+            self.add_table(Table("uncertainty_ranking_conversion", f"Which data move the conversion of {c.key} most",
+                                 head + [t.format(a="% points") for t in cols_tail], rows, section="uncertainty",
+                                 note="Shares averaged over every temperature and pressure option of the band "
+                                      "(first-order sensitivity coefficients). " + _RANKING_NOTE))
 
     # --------------------------------------------------------------- pressure options
     def pressure_options(self) -> None:
@@ -705,6 +1019,72 @@ class _Run:
                                   "guessed."))
 
 
+_RANKING_NOTE = (f"At most {RANKING_TOP} entries; data known exactly (ΔfH° of elements) and data with a share "
+                 f"below {100 * RANKING_MIN_SHARE:g} % (for example those of inert species) are not listed.")
+
+
+def _ranked(ranking) -> list:
+    """The leading entries of a sensitivity ranking, negligible shares left out."""
+    return [e for e in ranking if e.share >= RANKING_MIN_SHARE][:RANKING_TOP]
+
+
+def _falls_with_temperature(ans, i: int) -> bool | None:
+    """Whether conversion falls with temperature through the i-th answer of a
+    :class:`eqdesign.solve.design.TemperatureAnswer` (None when unknown)."""
+    if ans is None:
+        return None
+    crossings = np.asarray(ans.crossings, dtype=object).reshape(-1)
+    if i >= crossings.size or not crossings[i]:
+        return None
+    T_eq = float(np.asarray(ans.T_equilibrium, dtype=float).reshape(-1)[i])
+    if not np.isfinite(T_eq):
+        return None
+    nearest = min(crossings[i], key=lambda cr: abs(cr.value - T_eq))
+    return not nearest.rising
+
+
+def _fmt_interval(e: dict) -> str:
+    """``"454.8 degC (445.7 to 464.2 degC, u(T) 5.1 K)"``; interval ends beyond the search
+    range are said so, and an answer at the end of the range has no interval."""
+    if np.isnan(e["lower"]) and np.isnan(e["upper"]):
+        return (f"{e['T'] - ZERO_CELSIUS:.1f} degC (the end of the search range: the target is met over all of "
+                "it, so the data fix no interval)")
+
+    def end(x):
+        return (f"{x - ZERO_CELSIUS:.1f} degC" if np.isfinite(x) else
+                "beyond the search range" if x > 0 else "below the search range")
+    u = f", u(T) {e['u']:.1f} K" if np.isfinite(e["u"]) else ""
+    return f"{e['T'] - ZERO_CELSIUS:.1f} degC ({end(e['lower'])} to {end(e['upper'])}{u})"
+
+
+def _cited_references(data, defaults) -> list:
+    """(key, citation) of the defaults' references behind the key values used."""
+    out = []
+    for d in data:
+        if not d.origin.startswith("key value "):
+            continue
+        key = d.origin.split()[-1]
+        ref = defaults.references.get(key)
+        if isinstance(ref, dict) and key not in [k for k, _ in out]:
+            cite = re.sub(r",?\s*https?://\S+", "", str(ref.get("cite", key))).strip()
+            out.append((key, cite))
+    return out
+
+
+def _classes_used(data, defaults) -> list:
+    """(class, basis) of the class defaults used."""
+    out = []
+    for d in data:
+        if not d.origin.startswith("class: "):
+            continue
+        name = d.origin[len("class: "):]
+        basis = next((c["basis"] for c in defaults.classes if c["class"] == name), "")
+        basis = re.sub(r"\s+", " ", re.sub(r"https?://\S+", "", basis)).strip()
+        if name not in [n for n, _ in out]:
+            out.append((name, basis))
+    return out
+
+
 def _unit_header(key: str) -> str:
     """Column header with a unit in brackets (pass through headers that have one)."""
     return key if "[" in key else f"{key} [-]"
@@ -847,7 +1227,21 @@ def run_summary(result: RunResult) -> dict:
         "findings": result.findings,
         "tables": [f"{t.name}.csv" for t in result.tables] if case.output.tables else [],
         "figures": [f"{f.name}.{fmt}" for f in result.figures for fmt in case.output.plot_formats],
+        "uncertainty": _uncertainty_summary(result.uncertainty),
     }
+
+
+def _uncertainty_summary(u: UncertaintyRecord | None) -> dict | None:
+    if u is None:
+        return None
+
+    def num(x):
+        x = float(x)
+        return x if math.isfinite(x) else ("+inf" if x > 0 else "-inf") if math.isinf(x) else None
+    return {"method": u.method, "samples": u.samples, "seed": u.seed, "level": u.level,
+            "temperature_intervals_K": [{"question": e["label"], "P_bar": e["P"] / 1e5, "T": num(e["T"]),
+                                         "lower": num(e["lower"]), "upper": num(e["upper"]), "u": num(e["u"])}
+                                        for e in u.intervals]}
 
 
 def write_outputs(result: RunResult, outdir: str | Path, *, force: bool = False) -> list[Path]:

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import math
 import pathlib
+import re
 
 import numpy as np
 import pytest
@@ -239,3 +240,96 @@ def test_every_layout_key_is_documented():
     import re
     missing = sorted(k for k in keys if not re.search(rf"(?<![A-Za-z_]){re.escape(k)}(?![A-Za-z_])", doc))
     assert not missing, missing
+
+
+# ------------------------------------------------------------------ data uncertainty switch
+def test_uncertainty_switch_maps_to_settings():
+    """studies.uncertainty: the block's keys become the uncertainty module's settings; 'true'
+    or '{}' takes the defaults; 'false' (or no block) leaves it off."""
+    case = parse_case(BASE + "  uncertainty: {method: linear, level: '90 %', seed: 7, samples: 100}\n", "x.yaml")
+    u = case.studies.uncertainty
+    assert (u.method, u.level, u.seed, u.samples, dict(u.overrides)) == ("linear", 0.9, 7, 100, {})
+    assert "data uncertainty (linearised, 90 % intervals)" in case.summary()
+    for switch in ("true", "{}"):
+        u = parse_case(BASE + f"  uncertainty: {switch}\n", "x.yaml").studies.uncertainty
+        assert (u.method, u.samples, u.seed, u.level) == ("monte-carlo", 400, 1, 0.95)
+    assert parse_case(BASE + "  uncertainty: false\n", "x.yaml").studies.uncertainty is None
+    assert parse_case(BASE, "x.yaml").studies.uncertainty is None
+    # an alias in the overrides is stored under the database name
+    u = parse_case(BASE + "  uncertainty: {overrides: {ammonia: {entropy: '0.2 J/(mol K)'}}}\n",
+                   "x.yaml").studies.uncertainty
+    assert dict(u.overrides) == {"NH3": {"entropy": "0.2 J/(mol K)"}}
+
+
+def test_uncertainty_problems_are_reported_together_word_for_word():
+    text = BASE + """\
+  uncertainty:
+    method: bootstrap
+    samples: 10.5
+    overrides:
+      NH3: {formation_enthalpy: "-0.3 kJ/mol"}
+      CH4: {entropy: "0.1 J/(mol K)"}
+"""
+    assert problems_of(text) == [
+        "x.yaml: studies.uncertainty.method (line 19): 'bootstrap' is not one of monte-carlo, linear; write method: "
+        "monte-carlo or method: linear",
+        "x.yaml: studies.uncertainty.samples (line 20): give a whole number from 20 to 100000, got 10.5",
+        "x.yaml: studies.uncertainty.overrides.NH3.formation_enthalpy (line 22): a standard uncertainty must be "
+        "finite and non-negative, got '-0.3 kJ/mol'; give a standard uncertainty such as '0.4 kJ/mol'",
+        "x.yaml: studies.uncertainty.overrides.CH4 (line 23): CH4 is not a species of this case, so its uncertainty "
+        "cannot matter; remove it or add CH4 to chemistry.species",
+    ]
+
+
+UNCERTAIN_REACTION_SPECIES = """\
+user_species:
+  NH3k:
+    source: "invented reaction data for the test"
+    reaction_data:
+      reaction: "N2 + 3 H2 = 2 NH3k"
+      enthalpy: "-105 kJ/mol"
+      K: 1.0e-4
+      at: "700 K"
+      uncertainty: {enthalpy: "3 kJ/mol", entropy: "1 J/(mol K)"}
+"""
+
+
+def test_a_supplied_species_carries_its_own_uncertainty():
+    """Reaction data with their uncertainties: the reaction's K(T) then carries u(ΔrH°),
+    u(ΔrS°) alone, u²(ln K) = u²(ΔrH°)/(RT)² + u²(ΔrS°)/R² (GUM, independent data; ν = 2 on
+    the species and 1/ν on its data cancel)."""
+    from eqdesign.solve.uncertainty import ln_K_uncertainty
+    from eqdesign.thermo import R
+    text = BASE.replace("NH3", "NH3k") + "  uncertainty: {method: linear}\n" + UNCERTAIN_REACTION_SPECIES
+    case = parse_case(text, "x.yaml")
+    assert dict(case.studies.uncertainty.overrides) == {"NH3k": {"reaction_enthalpy": 3000.0,
+                                                                  "reaction_entropy": 1.0}}
+    assert "u(ΔrH°) = 3 kJ/mol, u(ΔrS°) = 1 J/(mol K)" in case.user_species[0].detail
+    r = ln_K_uncertainty("N2 + 3 H2 = 2 NH3k", 750.0, database=case.database,
+                         overrides=case.studies.uncertainty.overrides)
+    assert r.standard_uncertainty == pytest.approx(math.hypot(3000.0 / (R * 750.0), 1.0 / R), rel=1e-9)
+    assert {d.origin for d in r.data if d.species == "NH3k"} == {"user"}
+    # given twice: with the data and in the overrides
+    twice = text.replace("{method: linear}", "{overrides: {NH3k: {reaction_entropy: '2 J/(mol K)'}}}")
+    (msg,) = problems_of(twice)
+    assert msg == ("x.yaml: studies.uncertainty.overrides.NH3k.reaction_entropy (line 18): the reaction_entropy "
+                   "uncertainty of NH3k is also given with its data under user_species.NH3k; keep one")
+
+
+def test_uncertainty_defaults_file_is_read_relative_to_the_case(tmp_path):
+    """A defaults file of one's own (here the bundled one with u(ΔfH°(NH3)) doubled, invented)
+    is found beside the case file and replaces the bundled defaults."""
+    from importlib import resources
+    from eqdesign.solve.uncertainty import parameter_map
+    bundled = resources.files("eqdesign.data").joinpath("uncertainty_defaults.yaml").read_text(encoding="utf-8")
+    own = re.sub(r"NH3:(\s*)\{formation_enthalpy: 350.0", r"NH3:\1{formation_enthalpy: 700.0", bundled)
+    assert own != bundled
+    (tmp_path / "own_defaults.yaml").write_text(own, encoding="utf-8")
+    (tmp_path / "case.yaml").write_text(BASE + "  uncertainty: {defaults: own_defaults.yaml}\n", encoding="utf-8")
+    u = load_case(tmp_path / "case.yaml").studies.uncertainty
+    assert u.defaults_file == str(tmp_path / "own_defaults.yaml")
+    data = parameter_map(["N2", "H2", "NH3"], defaults=u.as_kwargs()["defaults"]).data
+    assert next(d.u for d in data if d.label == "ΔfH°(NH3)") == 700.0
+    (msg,) = problems_of(BASE + "  uncertainty: {defaults: nowhere.yaml}\n")
+    assert msg.startswith("x.yaml: studies.uncertainty.defaults (line 18): nowhere.yaml: cannot read uncertainty "
+                          "defaults")

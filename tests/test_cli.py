@@ -20,7 +20,8 @@ from eqdesign.solve.equilibrium import equilibrium
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"
 DEMOS = {
-    "ammonia_loop_pressure_options": ["pressure_options.csv", "targets.csv"],
+    "ammonia_loop_pressure_options": ["pressure_options.csv", "targets.csv", "temperature_intervals.csv",
+                                      "conversion_band.csv", "uncertainty_ranking_temperature.csv"],
     "sulfuric_acid_converter": ["staged_beds.csv", "conversion_temperature_diagram.png"],
     "steam_reformer_carbon": ["carbon_limit.csv", "carbon_limit.png", "conversion_by_feed_ratio.csv"],
     "methanol_restricted_reactions": ["pressure_options.csv", "targets.csv"],
@@ -390,6 +391,37 @@ MALFORMED = [
      ["studies.targets[0].feed_ratio.per", "'carbon' is the basis of the steam-to-carbon ratio"]),
     ("job-without-title", [('  title: "Test loop"\n', '  scenario: "no title"\n')],
      ["job", "missing key 'title'"]),
+    ("uncertainty-too-few-samples", [("output:", "  uncertainty: {samples: 5}\noutput:")],
+     ["x.yaml: studies.uncertainty.samples (line 27): give a whole number from 20 to 100000, got 5"]),
+    ("uncertainty-unknown-method", [("output:", "  uncertainty:\n    method: bootstrap\noutput:")],
+     ["studies.uncertainty.method (line 28): 'bootstrap' is not one of monte-carlo, linear; write method: "
+      "monte-carlo or method: linear"]),
+    ("uncertainty-level-out-of-range", [("output:", "  uncertainty: {level: '120 %'}\noutput:")],
+     ["studies.uncertainty.level", "give a coverage probability from 0.5 to below 1"]),
+    ("uncertainty-not-a-mapping", [("output:", "  uncertainty: [400, 1]\noutput:")],
+     ["studies.uncertainty (line 27): give a mapping with keys method, samples, seed, level, overrides, defaults"]),
+    ("uncertainty-override-wrong-unit",
+     [("output:", "  uncertainty:\n    overrides:\n      NH3: {formation_enthalpy: '0.35 J/(mol K)'}\noutput:")],
+     ["studies.uncertainty.overrides.NH3.formation_enthalpy (line 29)", "is not a molar energy",
+      "give a standard uncertainty such as '0.4 kJ/mol'"]),
+    ("uncertainty-override-unknown-species",
+     [("output:", "  uncertainty:\n    overrides:\n      NH4: {entropy: '0.1 J/(mol K)'}\noutput:")],
+     ["studies.uncertainty.overrides.NH4 (line 29)", "unknown species 'NH4'"]),
+    ("uncertainty-override-wrong-datum",
+     [("output:", "  uncertainty:\n    overrides:\n      NH3: {reaction_enthalpy: '2 kJ/mol'}\noutput:")],
+     ["studies.uncertainty.overrides.NH3.reaction_enthalpy (line 29): NH3 takes formation_enthalpy and entropy; "
+      "use those keys"]),
+    ("uncertainty-override-species-not-in-case",
+     [("output:", "  uncertainty:\n    overrides:\n      CO: {entropy: '0.1 J/(mol K)'}\noutput:")],
+     ["studies.uncertainty.overrides.CO (line 29): CO is not a species of this case"]),
+    ("uncertainty-without-anything-to-act-on",
+     [(STUDIES_BLOCK, "studies:\n  staged_beds: {inlet_temperature: '380 degC', beds: 2}\n  uncertainty: {}\n")],
+     ["studies.uncertainty (line 21): acts on the conversion map", "and the case has neither"]),
+    ("user-species-uncertainty-negative",
+     [("output:", USER_SPECIES.replace("    phase: gas\n", '    phase: gas\n    source: "test"\n')
+       .replace('cp: "35 J/(mol K)"}', 'cp: "35 J/(mol K)",\n      uncertainty: {enthalpy: "-1 kJ/mol"}}')
+       + "output:")],
+     ["user_species.XQ.formation_data.uncertainty.enthalpy", "a standard uncertainty is zero or positive"]),
 ]
 
 
