@@ -142,6 +142,11 @@ def standard_gibbs_RT(species, T) -> np.ndarray:
         Temperatures [K].
     """
     T = np.asarray(T, dtype=float).reshape(-1)
+    if T.size > 64:
+        # sweeps repeat temperatures (a T x P grid has few distinct ones): evaluate each once
+        unique, inverse = np.unique(T, return_inverse=True)
+        if unique.size <= T.size // 2:
+            return standard_gibbs_RT(species, unique)[inverse.reshape(-1)]
     out = np.empty((T.size, len(species)))
     if T.size == 0:
         return out
