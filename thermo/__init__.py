@@ -10,7 +10,8 @@ Public entry point used by outside checks::
 from .database import DatabaseError, SpeciesDatabase, UnknownSpeciesError
 from .models import P_STANDARD, R, T_REF, FormationDataModel, Nasa7Polynomial
 from .reactions import (
-    K_to_Kp, K_to_Kx, Kc_to_Kp, Kp_to_Kc, Reaction, ReactionError, ReactionLevelData,
+    K_to_Kp, K_to_Kx, Kc_to_Kp, Kp_to_Kc, Reaction, ReactionDerivedModel, ReactionError,
+    ReactionLevelData,
     bundled_database, equilibrium_constant, reaction_quotient, shift_direction,
 )
 from .species import CriticalConstants, ExtrapolationWarning, Species
@@ -19,7 +20,7 @@ from .units import UnitError, to_kelvin, to_pascal, to_si
 __all__ = [
     "DatabaseError", "SpeciesDatabase", "UnknownSpeciesError", "P_STANDARD", "R", "T_REF",
     "FormationDataModel", "Nasa7Polynomial", "K_to_Kp", "K_to_Kx", "Kc_to_Kp", "Kp_to_Kc",
-    "Reaction", "ReactionError", "ReactionLevelData", "bundled_database", "equilibrium_constant",
+    "Reaction", "ReactionDerivedModel", "ReactionError", "ReactionLevelData", "bundled_database", "equilibrium_constant",
     "reaction_quotient", "shift_direction", "CriticalConstants", "ExtrapolationWarning", "Species",
     "UnitError", "to_kelvin", "to_pascal", "to_si",
 ]

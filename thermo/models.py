@@ -135,8 +135,23 @@ class Nasa7Polynomial:
         return Nasa7Polynomial(self.T_bounds, coeffs)
 
 
+class EnthalpyEntropyModel:
+    """Shared part of models that define ``heat_capacity``, ``enthalpy`` and ``entropy``
+    directly: the dimensionless forms and g°/RT = h°/RT - s°/R."""
+
+    def dimensionless(self, T):
+        """Return (cp/R, h/RT, s/R) at T [K]."""
+        T = np.asarray(T, dtype=float)
+        return self.heat_capacity(T) / R, self.enthalpy(T) / (R * T), self.entropy(T) / R
+
+    def gibbs_RT(self, T):
+        """g°/RT at T [K]."""
+        T = np.asarray(T, dtype=float)
+        return self.enthalpy(T) / (R * T) - self.entropy(T) / R
+
+
 @dataclass(frozen=True)
-class FormationDataModel:
+class FormationDataModel(EnthalpyEntropyModel):
     """Species model from ΔfH°(298.15 K), S°(298.15 K) and a cp(T) polynomial.
 
     ``cp(T) = c0 + c1 T + c2 T^2 + c3 T^3 + cm2 / T^2`` [J/(mol K)], integrated
@@ -214,16 +229,6 @@ class FormationDataModel:
         T = np.asarray(T, dtype=float)
         c = self.cp_coefficients
         return self.entropy_298 + self._cp_over_T_integral(c, T) - self._cp_over_T_integral(c, T_REF)
-
-    def dimensionless(self, T):
-        """Return (cp/R, h/RT, s/R) at T [K]."""
-        T = np.asarray(T, dtype=float)
-        return self.heat_capacity(T) / R, self.enthalpy(T) / (R * T), self.entropy(T) / R
-
-    def gibbs_RT(self, T):
-        """g°/RT at T [K]."""
-        T = np.asarray(T, dtype=float)
-        return self.enthalpy(T) / (R * T) - self.entropy(T) / R
 
     def shifted_entropy(self, delta_s_R: float) -> "FormationDataModel":
         """Same model with S° shifted by ``delta_s_R * R`` (standard-pressure change)."""

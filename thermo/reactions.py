@@ -21,7 +21,7 @@ from typing import Mapping
 import numpy as np
 
 from .database import SpeciesDatabase, UnknownSpeciesError
-from .models import P_STANDARD, R, T_REF, FormationDataModel
+from .models import P_STANDARD, R, T_REF, EnthalpyEntropyModel, FormationDataModel
 from .species import Species
 from .units import to_kelvin, to_pascal
 
@@ -267,6 +267,66 @@ class ReactionLevelData:
     def equilibrium_constant(self, T):
         """Dimensionless K(T) on the 1 bar standard state."""
         return _float_or_array(np.exp(np.asarray(self.ln_K(T))))
+
+
+@dataclass(frozen=True)
+class ReactionDerivedModel(EnthalpyEntropyModel):
+    """Standard-state model of a species known only through one reaction's data.
+
+    For ``Σ ν_i A_i + ν_X X = 0`` with reaction-level data (``ReactionLevelData``:
+    ΔrH°, ΔrS° and ΔrCp° about a reference temperature), the species' properties follow
+    from Hess's law, ``h°_X = (ΔrH° - Σ ν_i h°_i) / ν_X`` and likewise for s° and cp°,
+    so that the reaction's K(T) is reproduced exactly by the Gibbs route.
+
+    Parameters
+    ----------
+    level_data : ReactionLevelData
+    partners : tuple of (Species, float)
+        The other species of the reaction and their coefficients ν_i.
+    nu : float
+        Coefficient ν_X of the species (positive for a product).
+    """
+
+    level_data: ReactionLevelData
+    partners: tuple
+    nu: float
+
+    @property
+    def T_bounds(self) -> tuple:
+        lo = max([self.level_data.T_bounds[0]] + [sp.T_min for sp, _ in self.partners])
+        hi = min([self.level_data.T_bounds[1]] + [sp.T_max for sp, _ in self.partners])
+        return (lo, hi)
+
+    @property
+    def T_min(self) -> float:
+        return self.T_bounds[0]
+
+    @property
+    def T_max(self) -> float:
+        return self.T_bounds[1]
+
+    def _combine(self, total, prop: str, T):
+        others = sum(nu * getattr(sp.model, prop)(T) for sp, nu in self.partners)
+        return (np.asarray(total, dtype=float) - others) / self.nu
+
+    def heat_capacity(self, T):
+        T = np.asarray(T, dtype=float)
+        dcp = FormationDataModel(0.0, 0.0, self.level_data.delta_cp, (1.0, 1e4)).heat_capacity(T)
+        return self._combine(dcp, "heat_capacity", T)
+
+    def enthalpy(self, T):
+        T = np.asarray(T, dtype=float)
+        return self._combine(self.level_data.delta_h_at(T), "enthalpy", T)
+
+    def entropy(self, T):
+        T = np.asarray(T, dtype=float)
+        return self._combine(self.level_data.delta_s_at(T), "entropy", T)
+
+    def shifted_entropy(self, delta_s_R: float) -> "ReactionDerivedModel":
+        ld = self.level_data
+        shifted = ReactionLevelData(ld.delta_h, ld.delta_s + self.nu * delta_s_R * R, ld.T_ref, ld.delta_cp,
+                                    ld.T_bounds, ld.delta_n_gas, ld.text)
+        return ReactionDerivedModel(shifted, self.partners, self.nu)
 
 
 # --------------------------------------------------------------- conversions
