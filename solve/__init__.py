@@ -15,7 +15,7 @@ from .energy import (
     isothermal_duty, mixture_enthalpy, staged_converter,
 )
 from .equilibrium import (
-    EquilibriumInputError, EquilibriumResult, NotConvergedWarning, equilibrium,
+    CondensationWarning, EquilibriumInputError, EquilibriumResult, NotConvergedWarning, equilibrium,
 )
 from .runner import OutputExistsError, RunResult, run_case, write_outputs
 from .sweep import ConversionMap, SweepAxis, conversion_map
@@ -27,7 +27,8 @@ from .uncertainty import (
 )
 
 __all__ = [
-    "EquilibriumInputError", "EquilibriumResult", "NotConvergedWarning", "equilibrium",
+    "CondensationWarning", "EquilibriumInputError", "EquilibriumResult", "NotConvergedWarning",
+    "equilibrium",
     "ConversionMap", "SweepAxis", "conversion_map",
     "AdiabaticResult", "BedRecord", "StagedConverterResult", "adiabatic_equilibrium",
     "feed_enthalpy", "isothermal_duty", "mixture_enthalpy", "staged_converter",

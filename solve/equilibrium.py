@@ -38,6 +38,10 @@ class NotConvergedWarning(UserWarning):
     """Some states did not converge; their results are NaN and flagged."""
 
 
+class CondensationWarning(UserWarning):
+    """At some states a dense (liquid-like) phase is more stable than the gas."""
+
+
 def _as_dict_of(values: np.ndarray, names: Sequence[str], shape: tuple) -> dict:
     out = {}
     for k, name in enumerate(names):
@@ -76,6 +80,10 @@ class EquilibriumResult:
     gas_model : str
     ln_phi_array : ndarray or None, shape (*shape, n_species)
         ln of the fugacity coefficients (0 for an ideal gas; NaN for condensed species).
+    condensation_possible : ndarray of bool or None
+        Peng-Robinson only: True where the equation of state has a liquid-like root more
+        stable than the vapour root at the equilibrium composition (the gas may condense;
+        the gas-phase answer there is a metastable vapour).
     """
 
     species: tuple
@@ -93,6 +101,7 @@ class EquilibriumResult:
     ln_phi_array: np.ndarray | None = field(default=None, repr=False)
     key: str | None = None
     message: str = ""
+    condensation_possible: np.ndarray | None = field(default=None, repr=False)
 
     # ----------------------------------------------------------------- shapes
     @property
@@ -485,6 +494,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     # group states by which feed species are present: the reachable set depends only on that
     amounts = np.full((n_points, ns), np.nan)
     ln_phi_all = np.full((n_points, ns), np.nan) if eos is not None else None
+    dense = np.zeros(n_points, dtype=bool)
     converged = np.zeros(n_points, dtype=bool)
     iterations = np.zeros(n_points, dtype=int)
     residual = np.full(n_points, np.inf)
@@ -565,11 +575,19 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
             y = out.gas[ok] / out.gas[ok].sum(axis=1, keepdims=True)
             if ok.any():
                 lp[np.ix_(np.flatnonzero(ok), gas_cols)] = eos.ln_phi(Tg[ok], Pg[ok], y, gas_index)
+                dense[rows[ok]] = eos.condensation_possible(Tg[ok], Pg[ok], y, gas_index)
             ln_phi_all[rows] = lp
     n_bad = int(n_points - converged.sum())
     message = "all states converged" if n_bad == 0 else f"{n_bad} of {n_points} state(s) did not converge (NaN)"
     if n_bad and warn:
         warnings.warn(message, NotConvergedWarning, stacklevel=2)
+    if dense.any():
+        note = (f"{int(dense.sum())} state(s) where a liquid-like root of the equation of state "
+                "is more stable than the gas: the gas may condense there and a gas-phase "
+                "equilibrium does not apply")
+        message += "; " + note
+        if warn:
+            warnings.warn(note, CondensationWarning, stacklevel=2)
     return EquilibriumResult(
         species=tuple(names), phases=tuple(sp.phase for sp in records),
         T=Tf.reshape(shape).copy() if shape else np.float64(Tf[0]), P=P_b.copy() if shape else np.float64(Pf[0]),
@@ -578,4 +596,5 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
         max_residual=residual.reshape(shape), g0_RT=g0.reshape(shape + (ns,)), reactions=rxns,
         gas_model=gas_model,
         ln_phi_array=None if ln_phi_all is None else ln_phi_all.reshape(shape + (ns,)),
-        key=db.resolve(key) if key else None, message=message)
+        key=db.resolve(key) if key else None, message=message,
+        condensation_possible=dense.reshape(shape) if eos is not None else None)

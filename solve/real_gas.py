@@ -12,6 +12,7 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
+from ..thermo.models import R
 from ..thermo.peng_robinson import CubicParameters, binary_interaction_matrix, gas_state
 
 
@@ -46,3 +47,24 @@ class FugacityModel:
     def residual_enthalpy(self, T, P, y_sub, columns):
         """Residual molar enthalpy of the gas [J/mol], shape (k,)."""
         return self.state(T, P, y_sub, columns).residual_enthalpy
+
+    def condensation_possible(self, T, P, y_sub, columns):
+        """True where the cubic has a second, liquid-like root whose residual Gibbs energy
+        is lower than the vapour root's: at that composition a dense phase is more stable
+        than the gas, so the gas may condense and a gas-only equilibrium does not apply.
+        Shape (k,)."""
+        y = np.zeros((np.shape(y_sub)[0], len(self.names)))
+        y[:, columns] = y_sub
+        T = np.asarray(T, dtype=float)
+        P = np.asarray(P, dtype=float)
+        vapour = gas_state(self.params, T, P, y, root="largest")
+        dense = gas_state(self.params, T, P, y, root="smallest")
+        two_roots = (~vapour.single_root) & (dense.residual_gibbs_energy < vapour.residual_gibbs_energy)
+        # one root only: liquid-like when below the mixture's pseudo-critical temperature
+        # (Kay's rule, T_pc = Σ y_i Tc_i) with a molar volume below the critical volume
+        # of a Peng-Robinson fluid, v_c = 3.95 b (Z_c = 0.307); common practice, no source
+        T_pc = y @ self.params.critical_temperature
+        v_over_b = vapour.compressibility * R * T / (P * (y @ self.params.covolume))
+        one_dense = vapour.single_root & (T < T_pc) & (v_over_b < 3.95)
+        return two_roots | one_dense
+

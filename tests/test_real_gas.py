@@ -294,3 +294,31 @@ def test_species_without_critical_constants_are_named():
     assert equilibrium(["H2", "O2", "H2O", "OH", "H"], {"H2": 2.0, "O2": 1.0}, 2500.0, 1e5).all_converged
     assert equilibrium(["CH4", "H2", "C(gr)"], {"CH4": 1.0, "H2": 1.0}, 900.0, 1e5,
                        gas_model="peng-robinson").all_converged
+
+
+def test_condensation_flag_marks_states_where_the_gas_would_be_liquid():
+    """The result flags states where a liquid-like root is the stable one.
+
+    CO2 vapour pressure at 290 K is about 5.2 MPa and NH3's at 300 K about 1.06 MPa
+    (NIST Chemistry WebBook saturation tables, from memory): a 98 % CO2 gas is a vapour at
+    40 bar and liquid at 60 and 100 bar; nearly pure NH3 at 300 K and 300 atm is liquid;
+    ammonia synthesis gas at 450 degC and 300 atm is a gas.  Phase splitting of a mixture
+    (a dew point) is not detected by this flag: it compares the roots of the cubic at the
+    mixture's own composition only.
+    """
+    import warnings as _w
+    from eqdesign.solve.equilibrium import CondensationWarning
+    with _w.catch_warnings():
+        _w.simplefilter("ignore", CondensationWarning)
+        co2 = equilibrium(["CH4", "CO2"], {"CH4": 0.02, "CO2": 0.98}, 290.0,
+                          np.array([40e5, 60e5, 100e5]), gas_model="peng-robinson")
+        nh3 = equilibrium(["N2", "H2", "NH3"], {"N2": 1.0, "H2": 3.0}, np.array([300.0, 723.15]),
+                          300 * 101325.0, gas_model="peng-robinson")
+    assert list(co2.condensation_possible) == [False, True, True]
+    assert list(nh3.condensation_possible) == [True, False]
+    assert "may condense" in nh3.message
+    with pytest.warns(CondensationWarning):
+        equilibrium(["N2", "H2", "NH3"], {"N2": 1.0, "H2": 3.0}, 300.0, 300 * 101325.0,
+                    gas_model="peng-robinson")
+    ideal = equilibrium(["N2", "H2", "NH3"], {"N2": 1.0, "H2": 3.0}, 300.0, 300 * 101325.0)
+    assert ideal.condensation_possible is None
