@@ -371,6 +371,8 @@ class ConversionMap:
     converged: np.ndarray = field(repr=False)
     conditions: dict = field(default_factory=dict)
     message: str = ""
+    max_residual: np.ndarray | None = field(default=None, repr=False)
+    iterations: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def shape(self) -> tuple:
@@ -584,6 +586,8 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
     dH = np.full(n_points, np.nan)
     a_C = np.full(n_points, np.nan) if has_carbon else None
     ok = np.zeros(n_points, dtype=bool)
+    resid = np.full(n_points, np.nan)
+    its = np.zeros(n_points, dtype=int)
     T_eq = T_flat.copy()
     if has_carbon:
         from .design import carbon_activity
@@ -593,6 +597,8 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
                                  key=key, reactions=rxns, gas_model=gas_model, approach=dT, database=db)
         T_eq[sl] = res.T
         ok[sl] = res.converged
+        resid[sl] = res.max_residual
+        its[sl] = res.iterations
         conv[sl] = res.conversion(key)
         yf = res.mole_fractions
         for n in gas_names:
@@ -624,4 +630,4 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
         stoichiometric_yield=None if (yld is None or not per_key) else grid(yld / per_key),
         mole_fractions={k: grid(v) for k, v in y.items()}, reaction_enthalpy=grid(dH),
         carbon_activity=None if a_C is None else grid(a_C), converged=grid(ok),
-        conditions=conditions, message=message)
+        conditions=conditions, message=message, max_residual=grid(resid), iterations=grid(its))
