@@ -322,3 +322,27 @@ def test_condensation_flag_marks_states_where_the_gas_would_be_liquid():
                     gas_model="peng-robinson")
     ideal = equilibrium(["N2", "H2", "NH3"], {"N2": 1.0, "H2": 3.0}, 300.0, 300 * 101325.0)
     assert ideal.condensation_possible is None
+
+
+def test_condensation_flag_finds_dew_points_of_gas_mixtures():
+    """Tangent-plane stability test (Michelsen 1982) flags gases below their dew point.
+
+    Water in nitrogen at 10 bar, 10 % H2O (partial pressure 1 bar): water's vapour pressure
+    is 0.035 bar at 300 K, 0.416 bar at 350 K, 2.458 bar at 400 K (NIST steam tables,
+    from memory), so the gas condenses at 300 and 350 K and not at 400 or 450 K.
+    Methanol-synthesis gas at 80 bar with ~21-23 % CH3OH (partial pressure ~17-18 bar):
+    methanol's vapour pressure is about 8 bar at 400 K and about 25 bar at 450 K (NIST
+    Chemistry WebBook, from memory), so it condenses at 320 and 400 K but not at 450 K.
+    """
+    import warnings as _w
+    from eqdesign.solve.equilibrium import CondensationWarning
+    with _w.catch_warnings():
+        _w.simplefilter("ignore", CondensationWarning)
+        wet = equilibrium(["N2", "H2O"], {"N2": 0.9, "H2O": 0.1}, np.array([300.0, 350.0, 400.0, 450.0]),
+                          10e5, gas_model="peng-robinson")
+        meoh = equilibrium(["CO", "CO2", "H2", "H2O", "CH3OH"], {"CO": 0.1, "CO2": 0.05, "H2": 0.8},
+                           np.array([320.0, 400.0, 450.0, 523.15]), 80e5, gas_model="peng-robinson",
+                           reactions=["CO + 2 H2 = CH3OH", "CO2 + H2 = CO + H2O"])
+    assert list(wet.condensation_possible) == [True, True, False, False]
+    assert list(meoh.condensation_possible) == [True, True, False, False]
+    assert np.all(meoh.mole_fractions["CH3OH"][:3] > 0.2)
