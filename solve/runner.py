@@ -36,7 +36,7 @@ from ..thermo.reactions import Reaction
 from ..thermo.species import ExtrapolationWarning
 from . import plots
 from .cases import LOW_T_MARGIN, Case, FeedRatio
-from .equilibrium import NotConvergedWarning, equilibrium
+from .equilibrium import CondensationWarning, NotConvergedWarning, equilibrium
 
 ZERO_CELSIUS = 273.15
 #: Reduced resolution (``coarse=True``): at most this many temperatures in a grid.
@@ -244,6 +244,10 @@ class _Recorder:
                 if text not in self.extrapolations:
                     self.extrapolations.append(text)
             elif issubclass(w.category, NotConvergedWarning):
+                if text not in self.not_converged:
+                    self.not_converged.append(text)
+            elif issubclass(w.category, CondensationWarning):
+                text = "Peng-Robinson gas: " + text
                 if text not in self.not_converged:
                     self.not_converged.append(text)
 
