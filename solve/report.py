@@ -49,6 +49,8 @@ table { border-collapse: collapse; margin: .6em 0 1em 0; font-size: .88em; }
 th, td { border: 1px solid #b0b0b0; padding: .25em .55em; text-align: right; vertical-align: top; }
 th { background: #e8ebf2; text-align: center; }
 td.text, th.text { text-align: left; }
+td.long { min-width: 14em; }
+div.wide { overflow-x: auto; max-width: 100%; }
 table.facts td:first-child { font-weight: bold; text-align: left; background: #f4f5f8; }
 table.facts td { text-align: left; }
 p.note { font-size: .85em; color: #444; margin-top: -.4em; }
@@ -100,12 +102,15 @@ def format_cell(v) -> str:
 
 
 def _table_html(columns, rows, *, every: int = 1, css: str = "") -> str:
-    out = [f'<table class="{css}">' if css else "<table>", "<thead><tr>"]
+    out = ['<div class="wide">', f'<table class="{css}">' if css else "<table>", "<thead><tr>"]
     text_cols = set()
+    long_cols = set()          # sentences: give them room instead of a narrow column
     if rows:
         for j in range(len(columns)):
             if all(isinstance(r[j], str) for r in rows if j < len(r)):
                 text_cols.add(j)
+                if max((len(r[j]) for r in rows if j < len(r)), default=0) > 60:
+                    long_cols.add(j)
     for j, c in enumerate(columns):
         cls = ' class="text"' if j in text_cols else ""
         out.append(f"<th{cls}>{_e(c)}</th>")
@@ -116,10 +121,10 @@ def _table_html(columns, rows, *, every: int = 1, css: str = "") -> str:
     for i in shown:
         out.append("<tr>")
         for j, v in enumerate(rows[i]):
-            cls = ' class="text"' if j in text_cols else ""
+            cls = ' class="text long"' if j in long_cols else (' class="text"' if j in text_cols else "")
             out.append(f"<td{cls}>{_e(format_cell(v))}</td>")
         out.append("</tr>")
-    out.append("</tbody></table>")
+    out.append("</tbody></table></div>")
     return "".join(out)
 
 

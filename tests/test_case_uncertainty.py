@@ -96,7 +96,7 @@ def test_report_states_method_draws_seed_level_assumption_and_ranking(ammonia):
     a, b = text.index("<h2>Uncertainty from the species data</h2>"), text.index("<h2>Data provenance</h2>")
     section = text[a:b]
     for fragment in ("Monte Carlo propagation of distributions (JCGM 101:2008", "400 draws of every uncertain datum",
-                     "random seed</td><td class=\"text\">1 (numpy default_rng",
+                     "random seed</td><td class=\"text long\">1 (numpy default_rng",
                      "from the 2.5th to the 97.5th percentile",
                      "data of different species treated as independent",
                      "Sensitivity ranking: which species' data move the answers most",
