@@ -168,3 +168,23 @@ def test_named_reactions_mode_equals_all_species_mode_when_reactions_span_everyt
     b = equilibrium(names, feed, T, 20e5, reactions=["CH4 + H2O = CO + 3 H2", "CO + H2O = CO2 + H2"])
     for n in names:
         assert np.allclose(a.mole_fractions[n], b.mole_fractions[n], atol=1e-10)
+
+
+def test_calcination_solids_appear_and_vanish_with_the_decomposition_pressure():
+    """CaCO3(s) = CaO(s) + CO2: while both solids coexist, p_CO2 equals K (pure solids at
+    unit activity); once p_CO2 could exceed K no CaCO3 remains.  K = 1 atm near 1171 K
+    (898 degC), the decomposition temperature of calcite under 1 atm CO2 (CRC Handbook of
+    Chemistry and Physics, from memory); the TM-4513 data must place it within 10 K."""
+    from scipy.optimize import brentq
+    from eqdesign.thermo import equilibrium_constant
+    T = np.array([900.0, 1000.0, 1100.0, 1150.0, 1180.0])
+    res = equilibrium(["CaCO3(s)", "CaO(s)", "CO2", "N2"], {"CaCO3(s)": 1.0, "N2": 1.0}, T, 101325.0)
+    assert res.all_converged
+    K = equilibrium_constant("CaCO3(s) = CaO(s) + CO2", T)
+    both = (res.condensed["CaCO3(s)"] > 0) & (res.condensed["CaO(s)"] > 0)
+    assert list(both) == [True, True, True, False, False]
+    assert np.allclose(res.partial_pressures["CO2"][both] / 1e5, K[both], rtol=1e-8)
+    gone = ~both
+    assert np.all(res.condensed["CaCO3(s)"][gone] == 0) and np.allclose(res.condensed["CaO(s)"][gone], 1.0)
+    T_dec = brentq(lambda t: equilibrium_constant("CaCO3(s) = CaO(s) + CO2", t) - 1.01325, 1000.0, 1199.0)
+    assert T_dec == pytest.approx(1171.0, abs=10.0)
