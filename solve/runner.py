@@ -126,7 +126,7 @@ class UncertaintyRecord:
     band_figure : str | None
         Name of the figure carrying the conversion bands.
     untreated : list[str]
-        Labels of target questions without an interval (pressure and feed-ratio answers).
+        Labels of target questions without an interval (feed-ratio answers).
     """
 
     method: str
@@ -606,7 +606,9 @@ class _Run:
         target (one call per question, all its pressures together); add the interval
         columns to the targets table, the band and ranking tables, and the record the
         report states."""
-        from .uncertainty import Band, UncertaintyDefaults, propagate_equilibrium, temperature_interval
+        from .uncertainty import (
+            Band, UncertaintyDefaults, pressure_interval, propagate_equilibrium, temperature_interval,
+        )
         c = self.case
         st = c.studies.uncertainty
         kw = st.as_kwargs()
@@ -630,14 +632,19 @@ class _Run:
                                           **common, **kw)
                 answers[qi] = (Ps, ti)
                 self._record_interval_temperatures(qi, ti)
+            p_answers = {qi: pressure_interval(species, c.feed, q.temperature, c.key, q.conversion,
+                                               P_range=q.search, **common, **kw)
+                         for qi, q in enumerate(c.studies.targets) if q.solve_for == "pressure"}
         first = band if band is not None else next((ti for _, ti in answers.values()), None)
+        if first is None:
+            first = next(iter(p_answers.values()), None)
         if first is None:
             return
         record = UncertaintyRecord(
             method=first.method, samples=first.samples, seed=first.seed, level=first.level, data=tuple(first.data),
             intervals=[], references=_cited_references(first.data, defaults),
             classes=_classes_used(first.data, defaults), defaults_origin=defaults.origin,
-            untreated=[q.label for q in c.studies.targets if q.solve_for != "temperature"])
+            untreated=[q.label for q in c.studies.targets if q.solve_for not in ("temperature", "pressure")])
         self.uncertainty_record = record
         lo_txt, hi_txt = f"lower {record.level_text}", f"upper {record.level_text}"
         if band is not None:
@@ -649,6 +656,8 @@ class _Run:
                           for j in range(len(c.pressures))]
         if answers:
             self._interval_tables(answers, record, lo_txt, hi_txt)
+        if p_answers:
+            self._pressure_interval_columns(p_answers, record, lo_txt, hi_txt)
         self._ranking_tables(band, answers, record)
         rows = [[d.label, d.species, d.u, d.unit, d.origin] for d in record.data]
         self.add_table(Table("uncertainty_data", "Standard uncertainties of the species data used",
@@ -736,7 +745,8 @@ class _Run:
                         100.0 * pick(ti.beyond_range)]
             row[at:at] = vals
         targets.note += (f" Interval columns: the {record.level_text} interval of a temperature answer from the "
-                         f"uncertainty of the species data ({record.how}); pressure and feed-ratio answers carry "
+                         f"uncertainty of the species data ({record.how}); pressure answers have their own interval "
+                         "columns, feed-ratio answers carry "
                          "none. A blank interval end lies beyond the search range (see the draws column), or the answer is "
                          "the end of the search range and has no interval.")
         rows = []
@@ -788,6 +798,34 @@ class _Run:
                  "(nearly) every draw - the lower end where conversion falls with temperature, the upper end "
                  "where it rises. Margin from the data: its distance from the nominal answer. T here is the "
                  "nominal answer refined to 1e-7 K; it differs from the targets table by less than 0.01 K."))
+
+    def _pressure_interval_columns(self, p_answers: dict, record: UncertaintyRecord, lo_txt: str,
+                                   hi_txt: str) -> None:
+        """Interval columns of pressure answers in the targets table, and one finding each."""
+        c = self.case
+        targets = self.table("targets")
+        at = targets.columns.index("reached [-]")
+        new_cols = [f"P {lo_txt} [bar]", f"P {hi_txt} [bar]", "u(ln P) [-]"]
+        targets.columns[at:at] = new_cols
+        for row, (qi, i) in zip(targets.rows, self.target_rows):
+            vals = [float("nan")] * len(new_cols)
+            if qi in p_answers:
+                pa = p_answers[qi]
+                vals = [float(pa.lower) / 1e5, float(pa.upper) / 1e5, float(pa.relative_uncertainty)]
+            row[at:at] = vals
+        targets.note += (f" Pressure answers: the {record.level_text} interval from the uncertainty of the "
+                         f"species data ({record.how}); u(ln P) is the relative standard uncertainty.")
+        for qi, pa in p_answers.items():
+            q = c.studies.targets[qi]
+            if not np.isfinite(pa.P):
+                continue
+            ends = [f"{v / 1e5:.4g} bar" if np.isfinite(v) else "beyond the search range"
+                    for v in (float(pa.lower), float(pa.upper))]
+            top = _ranked(pa.ranking())[:1]
+            lead = "; ".join(f"{e.datum.label} carries {100 * e.share:.0f} % of the variance" for e in top)
+            self.findings.append(f"Data uncertainty ({record.how}), {q.label}: {float(pa.P) / 1e5:.4g} bar "
+                                 f"({ends[0]} to {ends[1]}, u(ln P) {float(pa.relative_uncertainty):.3f})"
+                                 + (f". {lead}." if lead else "."))
 
     def _ranking_tables(self, band, answers: dict, record: UncertaintyRecord) -> None:
         c = self.case

@@ -1438,6 +1438,221 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
         message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
 
 
+@dataclass(frozen=True)
+class PressureUncertainty:
+    """The pressure for a target conversion, with its interval from data uncertainty.
+
+    Scalars for one question; arrays of the broadcast shape of T and target otherwise.
+
+    Attributes
+    ----------
+    P : float | ndarray
+        Pressure with the nominal data [Pa] (NaN where the target is not reached).
+    lower, median, upper : float | ndarray
+        Interval ends at coverage ``level`` and the median [Pa]; ±inf where that share of
+        the draws reaches the target only beyond ``P_range``.
+    relative_uncertainty : float | ndarray
+        u(ln P) [-], the relative standard uncertainty of the pressure.
+    reached, beyond_range, T, target, key, method, level, samples, seed, message
+        As for :class:`TemperatureUncertainty` (T [K] is the operating temperature).
+    sensitivity : ndarray, shape (*shape, n_data)
+        d ln P/dθ_k = −(∂X/∂θ_k)/(∂X/∂ln P) [per J/mol or per J/(mol K)].
+    sample_P : ndarray | None
+        Monte Carlo answers, shape (samples, *shape) [Pa].
+    """
+
+    P: object
+    lower: object
+    median: object
+    upper: object
+    relative_uncertainty: object
+    reached: object
+    beyond_range: object
+    T: object
+    target: object
+    key: str
+    method: str
+    level: float
+    samples: int
+    seed: int | None
+    sensitivity: np.ndarray = field(repr=False)
+    data: tuple = field(repr=False)
+    sample_P: np.ndarray | None = field(default=None, repr=False)
+    n_failed: object = 0
+    P_range: tuple = (np.nan, np.nan)
+    message: object = ""
+
+    @property
+    def shape(self) -> tuple:
+        return np.shape(self.P)
+
+    def ranking(self, *, at=None, by: str = "datum") -> tuple:
+        """Data ranked by their share of Var ln P (averaged over the questions unless ``at``)."""
+        c = self.sensitivity if at is None else self.sensitivity[at]
+        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
+
+
+def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key: str, target, *,
+                      P_range=(1e5, 300e5), reactions: Sequence[str] | None = None,
+                      gas_model: str = "ideal", approach=None, database: SpeciesDatabase | None = None,
+                      method: str = "monte-carlo", samples: int = 400, seed: int | None = 1,
+                      level: float = 0.95, overrides: Mapping | None = None,
+                      defaults: UncertaintyDefaults | None = None) -> PressureUncertainty:
+    """Pressure at which the conversion of ``key`` reaches ``target``, with its interval.
+
+    The nominal answer is that of :func:`eqdesign.solve.design.pressure_for_conversion`.
+    The search variable is ln P.  Monte Carlo: every draw's crossing is bracketed about the
+    nominal one and refined, all draws together (vectorised Illinois regula falsi, one
+    batched equilibrium call per iteration).  Linearised: d ln P/dθ = −(∂X/∂θ)/(∂X/∂ln P)
+    by central differences at the nominal answer (implicit-function rule).
+
+    Parameters
+    ----------
+    species, feed, T, key, target, P_range, reactions, gas_model, approach, database
+        As for :func:`eqdesign.solve.design.pressure_for_conversion` (T [K], P_range [Pa]).
+    method, samples, seed, level, overrides, defaults
+        As for :func:`propagate_equilibrium`.
+
+    Returns
+    -------
+    PressureUncertainty
+
+    Examples
+    --------
+    Ammonia from 1:3 N2:H2 at 700 K: the lowest pressure giving 40 % conversion of N2,
+    linearised (relative standard uncertainty of the pressure):
+
+    >>> r = pressure_interval(["N2", "H2", "NH3"], {"N2": 1, "H2": 3}, 700, "N2", 0.40,
+    ...                       P_range=("10 bar", "1000 bar"), method="linear")
+    >>> round(r.P / 1e5, 1), round(r.relative_uncertainty, 2)
+    (146.1, 0.06)
+    """
+    _check_method(method, samples, level)
+    from .design import pressure_for_conversion
+    db = database or bundled_database()
+    nominal = pressure_for_conversion(species, feed, T, key, target, P_range=P_range, reactions=reactions,
+                                      gas_model=gas_model, approach=approach, database=db)
+    shape = np.shape(nominal.P)
+    P0 = np.asarray(nominal.P, dtype=float).reshape(-1)
+    m = P0.size
+    T_op = np.broadcast_to(np.asarray(nominal.T, dtype=float), shape).reshape(-1)
+    T_eq = np.broadcast_to(np.asarray(nominal.T_equilibrium, dtype=float), shape).reshape(-1)
+    tg = np.broadcast_to(np.asarray(nominal.target, dtype=float), shape).reshape(-1)
+    at_end = np.broadcast_to(np.asarray(nominal.at_range_end, dtype=bool), shape).reshape(-1)
+    reached = np.isfinite(P0) & ~at_end
+    lo, hi = (math.log(float(to_pascal(v))) for v in P_range)
+    key_r = db.resolve(key)
+    probe = equilibrium(species, feed, float(np.nanmean(T_eq)), math.exp(0.5 * (lo + hi)), reactions=reactions,
+                        gas_model=gas_model, key=key_r, database=db, warn=False)
+    names = list(probe.species)
+    system = _system(species, np.asarray(probe.feed_array, dtype=float)[None, :], names, probe.gas_mask,
+                     key=key_r, reactions=probe.reactions, gas_model=gas_model, database=db,
+                     binary_interaction=None)
+    pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
+    u, nd = pm.u, len(pm.data)
+
+    def conversion_at(x, cases, shift=None):
+        am, fe, _ = system.solve(T_eq[cases], np.exp(x), np.zeros(np.size(x), dtype=int), shift)
+        return system.conversion(am, fe)
+
+    sens = np.full((m, nd), np.nan)
+    sigma = np.full(m, np.nan)
+    slope = np.full(m, np.nan)
+    rc = np.flatnonzero(reached)
+    x0 = np.log(np.where(reached, P0, 1.0))
+    if rc.size:
+        dXdg = _dY_dg(_system_for_cases(system, P0[rc]), T_eq[rc], P0[rc])[:, 0, :]     # (r, ns)
+        h = 1e-4
+        xs = conversion_at(np.concatenate([x0[rc] + h, x0[rc] - h]), np.concatenate([rc, rc]))
+        slope[rc] = (xs[:rc.size] - xs[rc.size:]) / (2 * h)
+        dXdtheta = np.einsum("rj,rkj->rk", dXdg, pm.chain_factors(T_eq[rc]))
+        sens[rc] = -dXdtheta / slope[rc][:, None]
+        sigma[rc] = np.sqrt(((sens[rc] * u) ** 2).sum(axis=-1))
+    P_nom = np.where(reached, P0, np.nan)
+    sample_P = None
+    n_failed = np.zeros(m, dtype=int)
+    beyond = np.zeros(m)
+    if method == "linear":
+        z = _z(level)
+        lower, median, upper, rel = P_nom * np.exp(-z * sigma), P_nom.copy(), P_nom * np.exp(z * sigma), sigma
+        n_samples = 0
+        msg = "linearised (implicit differentiation in ln P)"
+    else:
+        rng = np.random.default_rng(seed)
+        theta = rng.standard_normal((samples, nd)) * u
+        A, B = pm.shift_parts(theta)                                    # (S, ns)
+        X = np.full((samples, m), np.nan)
+        if rc.size:
+            S, r = samples, rc.size
+            s_idx = np.repeat(np.arange(S), r)
+            c_idx = np.tile(rc, S)
+            tgt = tg[c_idx]
+
+            def f(x, idx):
+                sh = A[s_idx[idx]] + T_eq[c_idx[idx]][:, None] * B[s_idx[idx]]
+                return conversion_at(x, c_idx[idx], sh) - tgt[idx]
+
+            n_all = s_idx.size
+            width = np.where(np.isfinite(sigma[c_idx]), 5.0 * sigma[c_idx] + 0.02, hi - lo)
+            a = np.maximum(x0[c_idx] - width, lo)
+            b = np.minimum(x0[c_idx] + width, hi)
+            fab = f(np.concatenate([a, b]), np.concatenate([np.arange(n_all), np.arange(n_all)]))
+            fa, fb = fab[:n_all], fab[n_all:]
+            same = np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) == np.sign(fb)) & (fa != 0)
+            direction = -np.sign(slope[c_idx]) * np.sign(fa)            # +1: root above b
+            censored = np.zeros(n_all)
+            ext = np.flatnonzero(same & (direction != 0))
+            if ext.size:
+                up = direction[ext] > 0
+                end = np.where(up, hi, lo)
+                fe = f(end, ext)
+                crosses = np.isfinite(fe) & (np.sign(fe) != np.sign(fa[ext]))
+                na, nb = np.where(up, b[ext], end), np.where(up, end, a[ext])
+                nfa, nfb = np.where(up, fb[ext], fe), np.where(up, fe, fa[ext])
+                a[ext], b[ext], fa[ext], fb[ext] = na, nb, nfa, nfb
+                stuck = ~crosses & np.isfinite(fe)
+                censored[ext[stuck]] = direction[ext[stuck]]
+            todo = np.flatnonzero((np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) != np.sign(fb)))
+                                  | (fa == 0) | (fb == 0))
+            roots = np.full(n_all, np.nan)
+            if todo.size:
+                xr, okr = _bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
+                                           xtol=ROOT_XTOL, ftol=ROOT_FTOL)
+                roots[todo] = np.where(okr, xr, np.nan)
+            roots = np.where(censored > 0, np.inf, np.where(censored < 0, -np.inf, roots))
+            X[:, rc] = roots.reshape(S, r)
+        n_failed = np.isnan(X).sum(axis=0) * reached
+        ql, qm, qu = _quantiles(X, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
+        with np.errstate(over="ignore"):
+            lower, median, upper = np.exp(ql), np.exp(qm), np.exp(qu)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            rel = np.nanstd(np.where(np.isfinite(X), X, np.nan), axis=0, ddof=1)
+        beyond = np.isinf(X).sum(axis=0) / samples
+        rel = np.where(beyond > 0, np.nan, rel)
+        lower, median, upper, rel = (np.where(reached, v, np.nan) for v in (lower, median, upper, rel))
+        n_samples = samples
+        with np.errstate(over="ignore"):
+            sample_P = np.exp(X).reshape((samples,) + shape)
+        msg = f"Monte Carlo, {samples} draws, seed {seed}"
+        if np.any(beyond > 0):
+            msg += "; some draws reach the target only beyond the search range (interval ends shown as ±inf)"
+        if np.any(n_failed):
+            msg += f"; {int(np.sum(n_failed))} draw(s) failed to solve and are left out"
+    if np.any(np.isfinite(P0) & at_end):
+        msg += "; no interval where the nominal answer is the end of the search range"
+    full = [f"{msg}; {ASSUMPTIONS}; nominal: {t}" for t in np.asarray(nominal.message, dtype=object).reshape(-1)]
+    return PressureUncertainty(
+        P=_shape_out(P_nom, shape), lower=_shape_out(lower, shape), median=_shape_out(median, shape),
+        upper=_shape_out(upper, shape), relative_uncertainty=_shape_out(rel, shape),
+        reached=_shape_out(reached, shape), beyond_range=_shape_out(beyond, shape), T=_shape_out(T_op, shape),
+        target=_shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
+        seed=seed if method == "monte-carlo" else None, sensitivity=sens.reshape(shape + (nd,)), data=pm.data,
+        sample_P=sample_P, n_failed=_shape_out(n_failed, shape),
+        P_range=(math.exp(lo), math.exp(hi)),
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+
+
 def _system_for_cases(system: _System, P_cases) -> _System:
     """The system with one feed row per case (the inverse questions share one feed)."""
     n = np.size(P_cases)

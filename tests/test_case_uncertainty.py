@@ -141,7 +141,10 @@ def test_target_answers_carry_interval_columns(ammonia):
         assert lo < T < hi and 5.0 < hi - lo < 40.0 and float(r["u(T) [K]"]) > 0
         assert float(r["draws beyond search range [%]"]) == 0.0
     pressure_row = next(r for r in rows if r["solve for"] == "pressure")
-    assert all(pressure_row[c] == "" for c in interval_cols[:3])         # no interval for a pressure answer
+    assert all(pressure_row[c] == "" for c in interval_cols[:3])         # no temperature interval there...
+    lo, P, hi = (float(pressure_row[k]) for k in ("P lower 95 % [bar]", "answer [value]", "P upper 95 % [bar]"))
+    assert lo < P < hi and 0.0 < float(pressure_row["u(ln P) [-]"]) < 0.2   # ...but a pressure interval
+    assert all(r["P lower 95 % [bar]"] == "" for r in temperature_rows)
 
 
 def test_interval_width_agrees_with_gum_and_van_t_hoff(ammonia):

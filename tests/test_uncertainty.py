@@ -351,3 +351,24 @@ def test_settings_mapping_and_messages():
         "uncertainty.overrides.NH3.enthalpy: unknown datum; use formation_enthalpy, entropy, reaction_enthalpy, "
         "reaction_entropy",
     ]
+
+
+def test_pressure_interval_matches_the_analytic_spread_of_ln_K():
+    """For N2 + 3 H2 = 2 NH3 in an ideal gas the conversion depends on K and P only through
+    K (P/P°)² (Kx = K (P/P°)^-Δn, Δn = -2), so at a fixed conversion d ln P = -½ d ln K and
+    u(ln P) = ½ u(ln K), with Var ln K = Σ ν_i² (u_H,i²/(RT)² + u_S,i²/R²) for independent
+    species data (GUM, JCGM 100:2008, law of propagation of uncertainty)."""
+    from eqdesign.solve.uncertainty import ln_K_uncertainty, pressure_interval
+    T = 700.0
+    lin = pressure_interval(AMMONIA, FEED, T, "N2", 0.40, P_range=("10 bar", "1000 bar"), method="linear")
+    uK = ln_K_uncertainty("N2 + 3 H2 = 2 NH3", T).standard_uncertainty
+    assert lin.relative_uncertainty == pytest.approx(0.5 * uK, rel=1e-3)
+    mc = pressure_interval(AMMONIA, FEED, T, "N2", 0.40, P_range=("10 bar", "1000 bar"), samples=400, seed=3)
+    assert mc.P == pytest.approx(lin.P, rel=1e-9)
+    assert mc.relative_uncertainty == pytest.approx(lin.relative_uncertainty, rel=0.1)
+    assert mc.lower < mc.P < mc.upper
+    zero = pressure_interval(AMMONIA, FEED, T, "N2", 0.40, P_range=("10 bar", "1000 bar"), samples=50,
+                             overrides=ZERO)
+    assert zero.upper / zero.lower - 1.0 < 1e-6
+    top = zero.ranking() or lin.ranking()
+    assert top[0].datum.species == "NH3"
