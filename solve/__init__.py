@@ -20,10 +20,10 @@ from .equilibrium import (
 from .runner import OutputExistsError, RunResult, run_case, write_outputs
 from .sweep import ConversionMap, SweepAxis, conversion_map
 from .uncertainty import (
-    Band, EquilibriumUncertainty, PressureUncertainty, TemperatureUncertainty, UncertaintyDefaults,
-    UncertaintyInputError, UncertaintySettings, html_section, ln_K_uncertainty, parameter_map,
-    pressure_interval, propagate_equilibrium, ranking_rows, reaction_level_ln_K_uncertainty,
-    settings_from_mapping, species_uncertainty, temperature_interval,
+    Band, EquilibriumUncertainty, FeedRatioUncertainty, PressureUncertainty, TemperatureUncertainty,
+    UncertaintyDefaults, UncertaintyInputError, UncertaintySettings, feed_ratio_interval, html_section,
+    ln_K_uncertainty, parameter_map, pressure_interval, propagate_equilibrium, ranking_rows,
+    reaction_level_ln_K_uncertainty, settings_from_mapping, species_uncertainty, temperature_interval,
 )
 
 __all__ = [
@@ -37,8 +37,8 @@ __all__ = [
     "graphite_stable", "pressure_for_conversion", "temperature_for_conversion",
     "Case", "CaseError", "CaseProblem", "load_case", "parse_case",
     "OutputExistsError", "RunResult", "run_case", "write_outputs",
-    "Band", "EquilibriumUncertainty", "PressureUncertainty", "TemperatureUncertainty", "UncertaintyDefaults",
+    "Band", "EquilibriumUncertainty", "FeedRatioUncertainty", "PressureUncertainty", "TemperatureUncertainty", "UncertaintyDefaults",
     "UncertaintyInputError", "UncertaintySettings", "html_section", "ln_K_uncertainty",
-    "parameter_map", "pressure_interval", "propagate_equilibrium", "ranking_rows", "reaction_level_ln_K_uncertainty",
+    "feed_ratio_interval", "parameter_map", "pressure_interval", "propagate_equilibrium", "ranking_rows", "reaction_level_ln_K_uncertainty",
     "settings_from_mapping", "species_uncertainty", "temperature_interval",
 ]

@@ -126,7 +126,7 @@ class UncertaintyRecord:
     band_figure : str | None
         Name of the figure carrying the conversion bands.
     untreated : list[str]
-        Labels of target questions without an interval (feed-ratio answers).
+        Labels of target questions without an interval (none at present).
     """
 
     method: str
@@ -607,7 +607,8 @@ class _Run:
         columns to the targets table, the band and ranking tables, and the record the
         report states."""
         from .uncertainty import (
-            Band, UncertaintyDefaults, pressure_interval, propagate_equilibrium, temperature_interval,
+            Band, UncertaintyDefaults, feed_ratio_interval, pressure_interval, propagate_equilibrium,
+            temperature_interval,
         )
         c = self.case
         st = c.studies.uncertainty
@@ -635,16 +636,21 @@ class _Run:
             p_answers = {qi: pressure_interval(species, c.feed, q.temperature, c.key, q.conversion,
                                                P_range=q.search, **common, **kw)
                          for qi, q in enumerate(c.studies.targets) if q.solve_for == "pressure"}
+            r_answers = {qi: feed_ratio_interval(species, c.feed, q.temperature, q.pressure or c.pressures[0],
+                                                 c.key, q.conversion, ratio=_api_ratio(q.feed_ratio),
+                                                 ratio_range=tuple(q.search), **common, **kw)
+                         for qi, q in enumerate(c.studies.targets)
+                         if q.solve_for not in ("temperature", "pressure")}
         first = band if band is not None else next((ti for _, ti in answers.values()), None)
         if first is None:
-            first = next(iter(p_answers.values()), None)
+            first = next(iter(list(p_answers.values()) + list(r_answers.values())), None)
         if first is None:
             return
         record = UncertaintyRecord(
             method=first.method, samples=first.samples, seed=first.seed, level=first.level, data=tuple(first.data),
             intervals=[], references=_cited_references(first.data, defaults),
             classes=_classes_used(first.data, defaults), defaults_origin=defaults.origin,
-            untreated=[q.label for q in c.studies.targets if q.solve_for not in ("temperature", "pressure")])
+            untreated=[])
         self.uncertainty_record = record
         lo_txt, hi_txt = f"lower {record.level_text}", f"upper {record.level_text}"
         if band is not None:
@@ -657,7 +663,10 @@ class _Run:
         if answers:
             self._interval_tables(answers, record, lo_txt, hi_txt)
         if p_answers:
-            self._pressure_interval_columns(p_answers, record, lo_txt, hi_txt)
+            self._answer_interval_columns(p_answers, record, lo_txt, hi_txt, "P", "bar", 1e5, "u(ln P)")
+        if r_answers:
+            self._answer_interval_columns(r_answers, record, lo_txt, hi_txt, "ratio", "mol/mol", 1.0,
+                                          "u(ln ratio)")
         self._ranking_tables(band, answers, record)
         rows = [[d.label, d.species, d.u, d.unit, d.origin] for d in record.data]
         self.add_table(Table("uncertainty_data", "Standard uncertainties of the species data used",
@@ -745,9 +754,8 @@ class _Run:
                         100.0 * pick(ti.beyond_range)]
             row[at:at] = vals
         targets.note += (f" Interval columns: the {record.level_text} interval of a temperature answer from the "
-                         f"uncertainty of the species data ({record.how}); pressure answers have their own interval "
-                         "columns, feed-ratio answers carry "
-                         "none. A blank interval end lies beyond the search range (see the draws column), or the answer is "
+                         f"uncertainty of the species data ({record.how}); pressure and feed-ratio answers have "
+                         "their own interval columns. A blank interval end lies beyond the search range (see the draws column), or the answer is "
                          "the end of the search range and has no interval.")
         rows = []
         for qi, (Ps, ti) in answers.items():
@@ -799,32 +807,34 @@ class _Run:
                  "where it rises. Margin from the data: its distance from the nominal answer. T here is the "
                  "nominal answer refined to 1e-7 K; it differs from the targets table by less than 0.01 K."))
 
-    def _pressure_interval_columns(self, p_answers: dict, record: UncertaintyRecord, lo_txt: str,
-                                   hi_txt: str) -> None:
-        """Interval columns of pressure answers in the targets table, and one finding each."""
+    def _answer_interval_columns(self, found: dict, record: UncertaintyRecord, lo_txt: str, hi_txt: str,
+                                 symbol: str, unit: str, scale: float, spread_label: str) -> None:
+        """Interval columns of pressure or feed-ratio answers in the targets table, and one
+        finding each (``found``: question index -> Pressure/FeedRatioUncertainty)."""
         c = self.case
         targets = self.table("targets")
         at = targets.columns.index("reached [-]")
-        new_cols = [f"P {lo_txt} [bar]", f"P {hi_txt} [bar]", "u(ln P) [-]"]
+        new_cols = [f"{symbol} {lo_txt} [{unit}]", f"{symbol} {hi_txt} [{unit}]", f"{spread_label} [-]"]
         targets.columns[at:at] = new_cols
         for row, (qi, i) in zip(targets.rows, self.target_rows):
             vals = [float("nan")] * len(new_cols)
-            if qi in p_answers:
-                pa = p_answers[qi]
-                vals = [float(pa.lower) / 1e5, float(pa.upper) / 1e5, float(pa.relative_uncertainty)]
+            if qi in found:
+                a = found[qi]
+                vals = [float(a.lower) / scale, float(a.upper) / scale, float(a.relative_uncertainty)]
             row[at:at] = vals
-        targets.note += (f" Pressure answers: the {record.level_text} interval from the uncertainty of the "
-                         f"species data ({record.how}); u(ln P) is the relative standard uncertainty.")
-        for qi, pa in p_answers.items():
+        targets.note += (f" {symbol} columns: the {record.level_text} interval of that answer from the uncertainty "
+                         f"of the species data ({record.how}); {spread_label} is its relative standard uncertainty.")
+        for qi, a in found.items():
             q = c.studies.targets[qi]
-            if not np.isfinite(pa.P):
+            value = float(a.P if symbol == "P" else a.ratio)
+            if not np.isfinite(value):
                 continue
-            ends = [f"{v / 1e5:.4g} bar" if np.isfinite(v) else "beyond the search range"
-                    for v in (float(pa.lower), float(pa.upper))]
-            top = _ranked(pa.ranking())[:1]
+            ends = [f"{v / scale:.4g} {unit}" if np.isfinite(v) else "beyond the search range"
+                    for v in (float(a.lower), float(a.upper))]
+            top = _ranked(a.ranking())[:1]
             lead = "; ".join(f"{e.datum.label} carries {100 * e.share:.0f} % of the variance" for e in top)
-            self.findings.append(f"Data uncertainty ({record.how}), {q.label}: {float(pa.P) / 1e5:.4g} bar "
-                                 f"({ends[0]} to {ends[1]}, u(ln P) {float(pa.relative_uncertainty):.3f})"
+            self.findings.append(f"Data uncertainty ({record.how}), {q.label}: {value / scale:.4g} {unit} "
+                                 f"({ends[0]} to {ends[1]}, {spread_label} {float(a.relative_uncertainty):.3f})"
                                  + (f". {lead}." if lead else "."))
 
     def _ranking_tables(self, band, answers: dict, record: UncertaintyRecord) -> None:

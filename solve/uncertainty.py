@@ -1492,6 +1492,104 @@ class PressureUncertainty:
         return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
 
 
+def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *, method, samples, seed,
+                      level, x_step=1e-4, min_width=0.02) -> dict:
+    """Interval of an inverse answer x (a search variable such as ln P or ln ratio) from the
+    species-data uncertainty, for the questions ``reached``.
+
+    ``conversion_at(x, cases, shift)`` gives the conversion at x for the questions
+    ``cases`` with g° shifts ``shift`` (n, ns) [J/mol]; ``dX_dg(rows)`` gives ∂X/∂g°_j
+    (r, ns) at the nominal answers of the questions ``rows``.  Linearised:
+    dx/dθ = −(∂X/∂θ)/(∂X/∂x) (implicit-function rule).  Monte Carlo: every draw's
+    crossing is bracketed about the nominal one (widened to the search range when it
+    left) and refined by the vectorised Illinois regula falsi, all draws together.
+    """
+    m = x0.size
+    u, nd = pm.u, len(pm.data)
+    sens = np.full((m, nd), np.nan)
+    sigma = np.full(m, np.nan)
+    slope = np.full(m, np.nan)
+    rc = np.flatnonzero(reached)
+    if rc.size:
+        xs = conversion_at(np.concatenate([x0[rc] + x_step, x0[rc] - x_step]), np.concatenate([rc, rc]), None)
+        slope[rc] = (xs[:rc.size] - xs[rc.size:]) / (2 * x_step)
+        dXdtheta = np.einsum("rj,rkj->rk", dX_dg(rc), pm.chain_factors(T_eq[rc]))
+        sens[rc] = -dXdtheta / slope[rc][:, None]
+        sigma[rc] = np.sqrt(((sens[rc] * u) ** 2).sum(axis=-1))
+    out = dict(sens=sens, sigma=sigma, beyond=np.zeros(m), n_failed=np.zeros(m, dtype=int), samples=None)
+    if method == "linear":
+        z = _z(level)
+        out.update(lower=x0 - z * sigma, median=x0.copy(), upper=x0 + z * sigma, spread=sigma)
+        return out
+    rng = np.random.default_rng(seed)
+    theta = rng.standard_normal((samples, nd)) * u
+    A, B = pm.shift_parts(theta)                                        # (S, ns)
+    X = np.full((samples, m), np.nan)
+    if rc.size:
+        S, r = samples, rc.size
+        s_idx = np.repeat(np.arange(S), r)
+        c_idx = np.tile(rc, S)
+        tgt = tg[c_idx]
+
+        def f(x, idx):
+            sh = A[s_idx[idx]] + T_eq[c_idx[idx]][:, None] * B[s_idx[idx]]
+            return conversion_at(x, c_idx[idx], sh) - tgt[idx]
+
+        n_all = s_idx.size
+        width = np.where(np.isfinite(sigma[c_idx]), 5.0 * sigma[c_idx] + min_width, hi - lo)
+        a = np.maximum(x0[c_idx] - width, lo)
+        b = np.minimum(x0[c_idx] + width, hi)
+        fab = f(np.concatenate([a, b]), np.concatenate([np.arange(n_all), np.arange(n_all)]))
+        fa, fb = fab[:n_all], fab[n_all:]
+        same = np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) == np.sign(fb)) & (fa != 0)
+        direction = -np.sign(slope[c_idx]) * np.sign(fa)                # +1: root above b
+        censored = np.zeros(n_all)
+        ext = np.flatnonzero(same & (direction != 0))
+        if ext.size:
+            up = direction[ext] > 0
+            end = np.where(up, hi, lo)
+            fe = f(end, ext)
+            crosses = np.isfinite(fe) & (np.sign(fe) != np.sign(fa[ext]))
+            na, nb = np.where(up, b[ext], end), np.where(up, end, a[ext])
+            nfa, nfb = np.where(up, fb[ext], fe), np.where(up, fe, fa[ext])
+            a[ext], b[ext], fa[ext], fb[ext] = na, nb, nfa, nfb
+            stuck = ~crosses & np.isfinite(fe)
+            censored[ext[stuck]] = direction[ext[stuck]]
+        todo = np.flatnonzero((np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) != np.sign(fb)))
+                              | (fa == 0) | (fb == 0))
+        roots = np.full(n_all, np.nan)
+        if todo.size:
+            xr, okr = _bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
+                                       xtol=ROOT_XTOL, ftol=ROOT_FTOL)
+            roots[todo] = np.where(okr, xr, np.nan)
+        roots = np.where(censored > 0, np.inf, np.where(censored < 0, -np.inf, roots))
+        X[:, rc] = roots.reshape(S, r)
+    lower, median, upper = _quantiles(X, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        spread = np.nanstd(np.where(np.isfinite(X), X, np.nan), axis=0, ddof=1)
+    beyond = np.isinf(X).sum(axis=0) / samples
+    out.update(lower=np.where(reached, lower, np.nan), median=np.where(reached, median, np.nan),
+               upper=np.where(reached, upper, np.nan),
+               spread=np.where(reached & (beyond == 0), spread, np.nan), beyond=beyond,
+               n_failed=np.isnan(X).sum(axis=0) * reached, samples=X)
+    return out
+
+
+def _interval_message(method, samples, seed, found: dict, at_end_any: bool, messages) -> list:
+    if method == "linear":
+        msg = "linearised (implicit differentiation)"
+    else:
+        msg = f"Monte Carlo, {samples} draws, seed {seed}"
+        if np.any(found["beyond"] > 0):
+            msg += "; some draws reach the target only beyond the search range (interval ends shown as ±inf)"
+        if np.any(found["n_failed"]):
+            msg += f"; {int(np.sum(found['n_failed']))} draw(s) failed to solve and are left out"
+    if at_end_any:
+        msg += "; no interval where the nominal answer is the end of the search range"
+    return [f"{msg}; {ASSUMPTIONS}; nominal: {t}" for t in np.asarray(messages, dtype=object).reshape(-1)]
+
+
 def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key: str, target, *,
                       P_range=(1e5, 300e5), reactions: Sequence[str] | None = None,
                       gas_model: str = "ideal", approach=None, database: SpeciesDatabase | None = None,
@@ -1500,11 +1598,10 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
                       defaults: UncertaintyDefaults | None = None) -> PressureUncertainty:
     """Pressure at which the conversion of ``key`` reaches ``target``, with its interval.
 
-    The nominal answer is that of :func:`eqdesign.solve.design.pressure_for_conversion`.
-    The search variable is ln P.  Monte Carlo: every draw's crossing is bracketed about the
-    nominal one and refined, all draws together (vectorised Illinois regula falsi, one
-    batched equilibrium call per iteration).  Linearised: d ln P/dθ = −(∂X/∂θ)/(∂X/∂ln P)
-    by central differences at the nominal answer (implicit-function rule).
+    The nominal answer is that of :func:`eqdesign.solve.design.pressure_for_conversion`;
+    the search variable is ln P.  Monte Carlo: every draw's crossing is refined, all draws
+    together (one batched equilibrium call per iteration); linearised:
+    d ln P/dθ = −(∂X/∂θ)/(∂X/∂ln P) at the nominal answer (implicit-function rule).
 
     Parameters
     ----------
@@ -1534,7 +1631,6 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
                                       gas_model=gas_model, approach=approach, database=db)
     shape = np.shape(nominal.P)
     P0 = np.asarray(nominal.P, dtype=float).reshape(-1)
-    m = P0.size
     T_op = np.broadcast_to(np.asarray(nominal.T, dtype=float), shape).reshape(-1)
     T_eq = np.broadcast_to(np.asarray(nominal.T_equilibrium, dtype=float), shape).reshape(-1)
     tg = np.broadcast_to(np.asarray(nominal.target, dtype=float), shape).reshape(-1)
@@ -1544,112 +1640,155 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     key_r = db.resolve(key)
     probe = equilibrium(species, feed, float(np.nanmean(T_eq)), math.exp(0.5 * (lo + hi)), reactions=reactions,
                         gas_model=gas_model, key=key_r, database=db, warn=False)
-    names = list(probe.species)
-    system = _system(species, np.asarray(probe.feed_array, dtype=float)[None, :], names, probe.gas_mask,
-                     key=key_r, reactions=probe.reactions, gas_model=gas_model, database=db,
+    system = _system(species, np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
+                     probe.gas_mask, key=key_r, reactions=probe.reactions, gas_model=gas_model, database=db,
                      binary_interaction=None)
-    pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
-    u, nd = pm.u, len(pm.data)
+    pm = parameter_map(list(probe.species), database=db, overrides=overrides, defaults=defaults)
 
-    def conversion_at(x, cases, shift=None):
+    def conversion_at(x, cases, shift):
         am, fe, _ = system.solve(T_eq[cases], np.exp(x), np.zeros(np.size(x), dtype=int), shift)
         return system.conversion(am, fe)
 
-    sens = np.full((m, nd), np.nan)
-    sigma = np.full(m, np.nan)
-    slope = np.full(m, np.nan)
-    rc = np.flatnonzero(reached)
     x0 = np.log(np.where(reached, P0, 1.0))
-    if rc.size:
-        dXdg = _dY_dg(_system_for_cases(system, P0[rc]), T_eq[rc], P0[rc])[:, 0, :]     # (r, ns)
-        h = 1e-4
-        xs = conversion_at(np.concatenate([x0[rc] + h, x0[rc] - h]), np.concatenate([rc, rc]))
-        slope[rc] = (xs[:rc.size] - xs[rc.size:]) / (2 * h)
-        dXdtheta = np.einsum("rj,rkj->rk", dXdg, pm.chain_factors(T_eq[rc]))
-        sens[rc] = -dXdtheta / slope[rc][:, None]
-        sigma[rc] = np.sqrt(((sens[rc] * u) ** 2).sum(axis=-1))
-    P_nom = np.where(reached, P0, np.nan)
-    sample_P = None
-    n_failed = np.zeros(m, dtype=int)
-    beyond = np.zeros(m)
-    if method == "linear":
-        z = _z(level)
-        lower, median, upper, rel = P_nom * np.exp(-z * sigma), P_nom.copy(), P_nom * np.exp(z * sigma), sigma
-        n_samples = 0
-        msg = "linearised (implicit differentiation in ln P)"
-    else:
-        rng = np.random.default_rng(seed)
-        theta = rng.standard_normal((samples, nd)) * u
-        A, B = pm.shift_parts(theta)                                    # (S, ns)
-        X = np.full((samples, m), np.nan)
-        if rc.size:
-            S, r = samples, rc.size
-            s_idx = np.repeat(np.arange(S), r)
-            c_idx = np.tile(rc, S)
-            tgt = tg[c_idx]
-
-            def f(x, idx):
-                sh = A[s_idx[idx]] + T_eq[c_idx[idx]][:, None] * B[s_idx[idx]]
-                return conversion_at(x, c_idx[idx], sh) - tgt[idx]
-
-            n_all = s_idx.size
-            width = np.where(np.isfinite(sigma[c_idx]), 5.0 * sigma[c_idx] + 0.02, hi - lo)
-            a = np.maximum(x0[c_idx] - width, lo)
-            b = np.minimum(x0[c_idx] + width, hi)
-            fab = f(np.concatenate([a, b]), np.concatenate([np.arange(n_all), np.arange(n_all)]))
-            fa, fb = fab[:n_all], fab[n_all:]
-            same = np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) == np.sign(fb)) & (fa != 0)
-            direction = -np.sign(slope[c_idx]) * np.sign(fa)            # +1: root above b
-            censored = np.zeros(n_all)
-            ext = np.flatnonzero(same & (direction != 0))
-            if ext.size:
-                up = direction[ext] > 0
-                end = np.where(up, hi, lo)
-                fe = f(end, ext)
-                crosses = np.isfinite(fe) & (np.sign(fe) != np.sign(fa[ext]))
-                na, nb = np.where(up, b[ext], end), np.where(up, end, a[ext])
-                nfa, nfb = np.where(up, fb[ext], fe), np.where(up, fe, fa[ext])
-                a[ext], b[ext], fa[ext], fb[ext] = na, nb, nfa, nfb
-                stuck = ~crosses & np.isfinite(fe)
-                censored[ext[stuck]] = direction[ext[stuck]]
-            todo = np.flatnonzero((np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) != np.sign(fb)))
-                                  | (fa == 0) | (fb == 0))
-            roots = np.full(n_all, np.nan)
-            if todo.size:
-                xr, okr = _bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
-                                           xtol=ROOT_XTOL, ftol=ROOT_FTOL)
-                roots[todo] = np.where(okr, xr, np.nan)
-            roots = np.where(censored > 0, np.inf, np.where(censored < 0, -np.inf, roots))
-            X[:, rc] = roots.reshape(S, r)
-        n_failed = np.isnan(X).sum(axis=0) * reached
-        ql, qm, qu = _quantiles(X, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
-        with np.errstate(over="ignore"):
-            lower, median, upper = np.exp(ql), np.exp(qm), np.exp(qu)
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", RuntimeWarning)
-            rel = np.nanstd(np.where(np.isfinite(X), X, np.nan), axis=0, ddof=1)
-        beyond = np.isinf(X).sum(axis=0) / samples
-        rel = np.where(beyond > 0, np.nan, rel)
-        lower, median, upper, rel = (np.where(reached, v, np.nan) for v in (lower, median, upper, rel))
-        n_samples = samples
-        with np.errstate(over="ignore"):
-            sample_P = np.exp(X).reshape((samples,) + shape)
-        msg = f"Monte Carlo, {samples} draws, seed {seed}"
-        if np.any(beyond > 0):
-            msg += "; some draws reach the target only beyond the search range (interval ends shown as ±inf)"
-        if np.any(n_failed):
-            msg += f"; {int(np.sum(n_failed))} draw(s) failed to solve and are left out"
-    if np.any(np.isfinite(P0) & at_end):
-        msg += "; no interval where the nominal answer is the end of the search range"
-    full = [f"{msg}; {ASSUMPTIONS}; nominal: {t}" for t in np.asarray(nominal.message, dtype=object).reshape(-1)]
+    found = _inverse_interval(
+        conversion_at, lambda rows: _dY_dg(_system_for_cases(system, P0[rows]), T_eq[rows], P0[rows])[:, 0, :],
+        x0, reached, tg, T_eq, lo, hi, pm, method=method, samples=samples, seed=seed, level=level)
+    with np.errstate(over="ignore"):
+        lower, median, upper = (np.exp(found[k]) for k in ("lower", "median", "upper"))
+        sample_P = None if found["samples"] is None else np.exp(found["samples"]).reshape((samples,) + shape)
+    full = _interval_message(method, samples, seed, found, bool(np.any(np.isfinite(P0) & at_end)),
+                             nominal.message)
     return PressureUncertainty(
-        P=_shape_out(P_nom, shape), lower=_shape_out(lower, shape), median=_shape_out(median, shape),
-        upper=_shape_out(upper, shape), relative_uncertainty=_shape_out(rel, shape),
-        reached=_shape_out(reached, shape), beyond_range=_shape_out(beyond, shape), T=_shape_out(T_op, shape),
-        target=_shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
-        seed=seed if method == "monte-carlo" else None, sensitivity=sens.reshape(shape + (nd,)), data=pm.data,
-        sample_P=sample_P, n_failed=_shape_out(n_failed, shape),
-        P_range=(math.exp(lo), math.exp(hi)),
+        P=_shape_out(np.where(reached, P0, np.nan), shape), lower=_shape_out(lower, shape),
+        median=_shape_out(median, shape), upper=_shape_out(upper, shape),
+        relative_uncertainty=_shape_out(found["spread"], shape), reached=_shape_out(reached, shape),
+        beyond_range=_shape_out(found["beyond"], shape), T=_shape_out(T_op, shape),
+        target=_shape_out(tg, shape), key=key_r, method=method, level=float(level),
+        samples=samples if method == "monte-carlo" else 0, seed=seed if method == "monte-carlo" else None,
+        sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_P=sample_P,
+        n_failed=_shape_out(found["n_failed"], shape), P_range=(math.exp(lo), math.exp(hi)),
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+
+
+@dataclass(frozen=True)
+class FeedRatioUncertainty:
+    """The feed ratio for a target conversion, with its interval from data uncertainty.
+
+    Attributes as :class:`PressureUncertainty`, with ``ratio``, ``lower``, ``median``,
+    ``upper`` [mol/mol], ``relative_uncertainty`` = u(ln ratio) [-], ``ratio_name``,
+    ``sample_ratio`` and the operating ``T`` [K] and ``P`` [Pa].
+    """
+
+    ratio: object
+    lower: object
+    median: object
+    upper: object
+    relative_uncertainty: object
+    reached: object
+    beyond_range: object
+    T: object
+    P: object
+    target: object
+    key: str
+    ratio_name: str
+    method: str
+    level: float
+    samples: int
+    seed: int | None
+    sensitivity: np.ndarray = field(repr=False)
+    data: tuple = field(repr=False)
+    sample_ratio: np.ndarray | None = field(default=None, repr=False)
+    n_failed: object = 0
+    message: object = ""
+
+    @property
+    def shape(self) -> tuple:
+        return np.shape(self.ratio)
+
+    def ranking(self, *, at=None, by: str = "datum") -> tuple:
+        """Data ranked by their share of Var ln(ratio)."""
+        c = self.sensitivity if at is None else self.sensitivity[at]
+        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
+
+
+def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P, key: str, target, *,
+                        ratio=("H2O", "CO"), ratio_range=(0.1, 10.0), reactions: Sequence[str] | None = None,
+                        gas_model: str = "ideal", approach=None, database: SpeciesDatabase | None = None,
+                        method: str = "monte-carlo", samples: int = 400, seed: int | None = 1,
+                        level: float = 0.95, overrides: Mapping | None = None,
+                        defaults: UncertaintyDefaults | None = None) -> FeedRatioUncertainty:
+    """Feed ratio at which the conversion of ``key`` reaches ``target``, with its interval.
+
+    The nominal answer is that of :func:`eqdesign.solve.design.feed_ratio_for_conversion`;
+    the search variable is ln(ratio), otherwise as :func:`pressure_interval`.
+
+    Examples
+    --------
+    Water-gas shift of CO at 500 K and 20 bar: steam-to-CO ratio for 99 % conversion,
+    linearised:
+
+    >>> r = feed_ratio_interval(["CO", "H2O", "CO2", "H2"], {"CO": 1}, 500, "20 bar", "CO", 0.99,
+    ...                         ratio=("H2O", "CO"), ratio_range=(0.5, 10), method="linear")
+    >>> round(r.ratio, 3), r.relative_uncertainty < 0.05
+    (1.705, True)
+    """
+    _check_method(method, samples, level)
+    from .design import feed_ratio_for_conversion
+    from .sweep import feed_ratio_spec
+    db = database or bundled_database()
+    nominal = feed_ratio_for_conversion(species, feed, T, P, key, target, ratio=ratio, ratio_range=ratio_range,
+                                        reactions=reactions, gas_model=gas_model, approach=approach, database=db)
+    spec = feed_ratio_spec(ratio, db)
+    shape = np.shape(nominal.ratio)
+    r0 = np.asarray(nominal.ratio, dtype=float).reshape(-1)
+    T_op = np.broadcast_to(np.asarray(nominal.T, dtype=float), shape).reshape(-1)
+    P_c = np.broadcast_to(np.asarray(nominal.P, dtype=float), shape).reshape(-1)
+    T_eq = np.broadcast_to(np.asarray(nominal.T_equilibrium, dtype=float), shape).reshape(-1)
+    tg = np.broadcast_to(np.asarray(nominal.target, dtype=float), shape).reshape(-1)
+    at_end = np.broadcast_to(np.asarray(nominal.at_range_end, dtype=bool), shape).reshape(-1)
+    reached = np.isfinite(r0) & ~at_end
+    lo, hi = (math.log(float(to_si(v, "dimensionless"))) for v in ratio_range)
+    key_r = db.resolve(key)
+    base = {db.resolve(k): float(to_si(v, "amount")) for k, v in feed.items()}
+    species_all = list(species) + ([spec.numerator] if spec.numerator not in species else [])
+    probe = equilibrium(species_all, spec.apply(base, np.exp(0.5 * (lo + hi)), db), float(np.nanmean(T_eq)),
+                        float(np.nanmean(P_c)), reactions=reactions, gas_model=gas_model, key=key_r, database=db,
+                        warn=False)
+    names = list(probe.species)
+    pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
+
+    def system_for(x):
+        fed = spec.apply(base, np.exp(np.asarray(x, dtype=float)), db)
+        rows = np.zeros((np.size(x), len(names)))
+        for k, v in fed.items():
+            rows[:, names.index(k)] = np.broadcast_to(v, np.shape(x))
+        return _system(species_all, rows, names, probe.gas_mask, key=key_r, reactions=probe.reactions,
+                       gas_model=gas_model, database=db, binary_interaction=None)
+
+    def conversion_at(x, cases, shift):
+        sysx = system_for(x)
+        am, fe, _ = sysx.solve(T_eq[cases], P_c[cases], np.arange(np.size(x)), shift)
+        return sysx.conversion(am, fe)
+
+    x0 = np.log(np.where(reached, r0, 1.0))
+    found = _inverse_interval(
+        conversion_at, lambda rows: _dY_dg(system_for(x0[rows]), T_eq[rows], P_c[rows])[:, 0, :],
+        x0, reached, tg, T_eq, lo, hi, pm, method=method, samples=samples, seed=seed, level=level)
+    with np.errstate(over="ignore"):
+        lower, median, upper = (np.exp(found[k]) for k in ("lower", "median", "upper"))
+        sample_r = None if found["samples"] is None else np.exp(found["samples"]).reshape((samples,) + shape)
+    full = _interval_message(method, samples, seed, found, bool(np.any(np.isfinite(r0) & at_end)),
+                             nominal.message)
+    return FeedRatioUncertainty(
+        ratio=_shape_out(np.where(reached, r0, np.nan), shape), lower=_shape_out(lower, shape),
+        median=_shape_out(median, shape), upper=_shape_out(upper, shape),
+        relative_uncertainty=_shape_out(found["spread"], shape), reached=_shape_out(reached, shape),
+        beyond_range=_shape_out(found["beyond"], shape), T=_shape_out(T_op, shape), P=_shape_out(P_c, shape),
+        target=_shape_out(tg, shape), key=key_r, ratio_name=nominal.ratio_name, method=method,
+        level=float(level), samples=samples if method == "monte-carlo" else 0,
+        seed=seed if method == "monte-carlo" else None,
+        sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_ratio=sample_r,
+        n_failed=_shape_out(found["n_failed"], shape),
         message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
 
 

@@ -257,3 +257,16 @@ def test_zero_uncertainty_gives_a_zero_width_interval_through_the_case(method):
     text = build_report(result)
     assert "Uncertainty from the species data" in text and ("draws" in text)
     assert re.search(r"95 % interval <b>[\d.]+ degC to [\d.]+ degC</b>", text)
+
+
+def test_feed_ratio_and_pressure_answers_get_intervals_through_the_case():
+    """The shift demo case with the uncertainty switched on (linearised): its steam-to-CO
+    answer carries an interval that brackets it (definition of the interval)."""
+    text = pathlib.Path("cases/shift_converters.yaml").read_text(encoding="utf-8")
+    text = text.replace("  staged_beds:", "  uncertainty: {method: linear}\n  staged_beds:", 1)
+    result = run_case(parse_case(text, "shift_with_uncertainty.yaml"), coarse=True)
+    row = next(r for r in rows_of(result.table("targets")) if r["solve for"] != "temperature")
+    lo, value, hi = (float(row[k]) for k in ("ratio lower 95 % [mol/mol]", "answer [value]",
+                                              "ratio upper 95 % [mol/mol]"))
+    assert lo < value < hi and 0.0 < float(row["u(ln ratio) [-]"]) < 0.5
+    assert any("u(ln ratio)" in f for f in result.findings)

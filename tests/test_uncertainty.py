@@ -372,3 +372,28 @@ def test_pressure_interval_matches_the_analytic_spread_of_ln_K():
     assert zero.upper / zero.lower - 1.0 < 1e-6
     top = zero.ranking() or lin.ranking()
     assert top[0].datum.species == "NH3"
+
+
+def test_feed_ratio_interval_matches_the_analytic_spread_for_the_shift():
+    """CO + H2O = CO2 + H2 from 1 mol CO and r mol H2O (Δn = 0): at conversion X,
+    K = X² / ((1 - X)(r - X)), so r = X + X²/(K (1 - X)) and d ln r/d ln K = -(r - X)/r;
+    hence u(ln r) = (r - X)/r · u(ln K) (GUM, JCGM 100:2008, first-order propagation)."""
+    from eqdesign.solve.uncertainty import feed_ratio_interval, ln_K_uncertainty
+    species, X, T = ["CO", "H2O", "CO2", "H2"], 0.99, 500.0
+    lin = feed_ratio_interval(species, {"CO": 1.0}, T, "20 bar", "CO", X, ratio=("H2O", "CO"),
+                              ratio_range=(0.5, 10.0), method="linear")
+    r = lin.ratio
+    K = math.exp(Reaction_lnK("CO + H2O = CO2 + H2", T))
+    # the nominal search stops at 1e-6 in conversion, ~1e-4 relative in r this close to X = 1
+    assert r == pytest.approx(X + X ** 2 / (K * (1 - X)), rel=1e-4)
+    uK = ln_K_uncertainty("CO + H2O = CO2 + H2", T).standard_uncertainty
+    assert lin.relative_uncertainty == pytest.approx((r - X) / r * uK, rel=1e-3)
+    mc = feed_ratio_interval(species, {"CO": 1.0}, T, "20 bar", "CO", X, ratio=("H2O", "CO"),
+                             ratio_range=(0.5, 10.0), samples=300, seed=5)
+    assert mc.lower < r < mc.upper
+    assert mc.relative_uncertainty == pytest.approx(lin.relative_uncertainty, rel=0.15)
+
+
+def Reaction_lnK(text, T):
+    from eqdesign.thermo import Reaction
+    return Reaction.parse(text).ln_K(T)
