@@ -1305,16 +1305,12 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
     system = _system(species, feed_one, names, res_probe.gas_mask, key=key_r, reactions=res_probe.reactions,
                      gas_model=gas_model, database=db, binary_interaction=None)
     pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
-    u, nd, ns = pm.u, len(pm.data), len(names)
 
     def conversion_at(T, cases, shift=None):
         am, fe, _ = system.solve(T, P_c[cases], np.zeros(np.size(T), dtype=int), shift)
         return system.conversion(am, fe)
 
-    sens = np.full((m, nd), np.nan)
-    sigma = np.full(m, np.nan)
     T_eq_ref = T_eq0.copy()
-    slope = np.full(m, np.nan)
     # refine the nominal crossing further (design stops at 1e-6 in conversion or 1e-4 K); a
     # nominal answer with no crossing nearby (target met over the whole range: the answer is
     # the end of the range, not fixed by the data) gets no interval
@@ -1339,86 +1335,23 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
             T_eq_ref[gi] = np.where(okr, roots, T_eq0[gi])
             crossing[gi] = okr
         rc = rc[~good]
-    rc = np.flatnonzero(crossing)
-    if rc.size:
-        # sensitivities at the nominal answer: ∂X/∂g_j (central) and ∂X/∂T (central), one call
-        Te = T_eq_ref[rc]
-        dXdg = _dY_dg(_system_for_cases(system, P_c[rc]), Te, P_c[rc])[:, 0, :]      # (r, ns)
-        xT = conversion_at(np.concatenate([Te + T_STEP, Te - T_STEP]), np.concatenate([rc, rc]))
-        slope[rc] = (xT[:rc.size] - xT[rc.size:]) / (2 * T_STEP)
-        chain = pm.chain_factors(Te)                                                  # (r, nd, ns)
-        dXdtheta = np.einsum("rj,rkj->rk", dXdg, chain)
-        sens[rc] = -dXdtheta / slope[rc][:, None]
-        sigma[rc] = np.sqrt(((sens[rc] * u) ** 2).sum(axis=-1))
     T_nom = np.where(reached, T_eq_ref - side * dT, np.nan)
-
-    sample_T = None
-    n_failed = np.zeros(m, dtype=int)
-    beyond = np.zeros(m)
+    found = _inverse_interval(
+        conversion_at,
+        lambda rows: _dY_dg(_system_for_cases(system, P_c[rows]), T_eq_ref[rows], P_c[rows])[:, 0, :],
+        T_eq_ref, crossing, tg, T_eq_ref, lo + side * dT, hi + side * dT, pm, method=method,
+        samples=samples, seed=seed, level=level, x_step=T_STEP, min_width=0.5,
+        temperature_of=lambda x, cases: x)
+    sens = found["sens"]
+    lower, median, upper = (found[k] - side * dT for k in ("lower", "median", "upper"))
+    std, beyond, n_failed = found["spread"], found["beyond"], found["n_failed"]
     if method == "linear":
-        z = _z(level)
-        lower, median, upper, std = T_nom - z * sigma, T_nom.copy(), T_nom + z * sigma, sigma
-        n_samples = 0
+        median = T_nom.copy()
+        n_samples, sample_T = 0, None
         msg = "linearised (implicit differentiation)"
     else:
-        rng = np.random.default_rng(seed)
-        theta = rng.standard_normal((samples, nd)) * u
-        A, B = pm.shift_parts(theta)                                           # (S, ns)
-        Teq = np.full((samples, m), np.nan)
-        if rc.size:
-            S, r = samples, rc.size
-            s_idx = np.repeat(np.arange(S), r)                                  # flat (S*r,)
-            c_idx = np.tile(rc, S)
-            lo_eq, hi_eq = lo + side[c_idx] * dT, hi + side[c_idx] * dT
-            tgt = tg[c_idx]
-
-            def f(x, idx):
-                sh = A[s_idx[idx]] + x[:, None] * B[s_idx[idx]]
-                return conversion_at(x, c_idx[idx], sh) - tgt[idx]
-
-            centre = T_eq_ref[c_idx]
-            width = np.where(np.isfinite(sigma[c_idx]), 5.0 * sigma[c_idx] + 0.5, hi - lo)
-            a = np.maximum(centre - width, lo_eq)
-            b = np.minimum(centre + width, hi_eq)
-            n_all = s_idx.size
-            fab = f(np.concatenate([a, b]), np.concatenate([np.arange(n_all), np.arange(n_all)]))
-            fa, fb = fab[:n_all], fab[n_all:]
-            # draws whose crossing left the local bracket: extend it to the end of the range
-            same = np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) == np.sign(fb)) & (fa != 0)
-            direction = -np.sign(slope[c_idx]) * np.sign(fa)                    # +1: root above b
-            ext = np.flatnonzero(same & (direction != 0))
-            censored = np.zeros(n_all)
-            if ext.size:
-                up = direction[ext] > 0
-                end = np.where(up, hi_eq[ext], lo_eq[ext])
-                fe = f(end, ext)
-                crosses = np.isfinite(fe) & (np.sign(fe) != np.sign(fa[ext]))
-                na, nb = np.where(up, b[ext], end), np.where(up, end, a[ext])
-                nfa, nfb = np.where(up, fb[ext], fe), np.where(up, fe, fa[ext])
-                a[ext], b[ext] = na, nb
-                fa[ext], fb[ext] = nfa, nfb
-                censored[ext[~crosses & np.isfinite(fe)]] = direction[ext[~crosses & np.isfinite(fe)]]
-            todo = np.flatnonzero(np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) != np.sign(fb)) | (fa == 0)
-                                  | (fb == 0))
-            roots = np.full(n_all, np.nan)
-            if todo.size:
-                x, okr = _bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
-                                          xtol=ROOT_XTOL, ftol=ROOT_FTOL)
-                roots[todo] = np.where(okr, x, np.nan)
-            roots = np.where(censored > 0, np.inf, np.where(censored < 0, -np.inf, roots))
-            Teq[:, rc] = roots.reshape(S, r)
-        T_samples = Teq - side[None, :] * dT
-        n_failed = np.isnan(T_samples).sum(axis=0) * crossing
-        lower, median, upper = _quantiles(T_samples, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
-        fin = np.where(np.isfinite(T_samples), T_samples, np.nan)
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", RuntimeWarning)
-            std = np.nanstd(fin, axis=0, ddof=1)
-        beyond = np.isinf(T_samples).sum(axis=0) / samples
-        std = np.where(beyond > 0, np.nan, std)
-        lower, median, upper, std = (np.where(crossing, v, np.nan) for v in (lower, median, upper, std))
         n_samples = samples
-        sample_T = T_samples.reshape((samples,) + shape)
+        sample_T = (found["samples"] - side[None, :] * dT).reshape((samples,) + shape)
         msg = f"Monte Carlo, {samples} draws, seed {seed}"
         if np.any(beyond > 0):
             msg += "; some draws reach the target only beyond the search range (interval ends shown as ±inf)"
@@ -1433,8 +1366,8 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
         upper=_shape_out(upper, shape), standard_uncertainty=_shape_out(std, shape),
         reached=_shape_out(reached, shape), beyond_range=_shape_out(beyond, shape), P=_shape_out(P_c, shape),
         target=_shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
-        seed=seed if method == "monte-carlo" else None, sensitivity=sens.reshape(shape + (nd,)), data=pm.data,
-        sample_T=sample_T, n_failed=_shape_out(n_failed, shape), approach=dT or None, T_range=(lo, hi),
+        seed=seed if method == "monte-carlo" else None, sensitivity=sens.reshape(shape + (len(pm.data),)),
+        data=pm.data, sample_T=sample_T, n_failed=_shape_out(n_failed, shape), approach=dT or None, T_range=(lo, hi),
         message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
 
 
@@ -1493,7 +1426,7 @@ class PressureUncertainty:
 
 
 def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *, method, samples, seed,
-                      level, x_step=1e-4, min_width=0.02) -> dict:
+                      level, x_step=1e-4, min_width=0.02, temperature_of=None) -> dict:
     """Interval of an inverse answer x (a search variable such as ln P or ln ratio) from the
     species-data uncertainty, for the questions ``reached``.
 
@@ -1503,8 +1436,16 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
     dx/dθ = −(∂X/∂θ)/(∂X/∂x) (implicit-function rule).  Monte Carlo: every draw's
     crossing is bracketed about the nominal one (widened to the search range when it
     left) and refined by the vectorised Illinois regula falsi, all draws together.
+    ``lo``, ``hi``: search range of x, scalars or one per question.  ``temperature_of(x,
+    cases)``: the temperature [K] at which the data shifts apply (default: ``T_eq`` of the
+    question; the search variable itself when it is the temperature).
     """
     m = x0.size
+    lo = np.broadcast_to(np.asarray(lo, dtype=float), (m,))
+    hi = np.broadcast_to(np.asarray(hi, dtype=float), (m,))
+    if temperature_of is None:
+        def temperature_of(x, cases):
+            return T_eq[cases]
     u, nd = pm.u, len(pm.data)
     sens = np.full((m, nd), np.nan)
     sigma = np.full(m, np.nan)
@@ -1531,14 +1472,16 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
         c_idx = np.tile(rc, S)
         tgt = tg[c_idx]
 
+        lo_c, hi_c = lo[c_idx], hi[c_idx]
+
         def f(x, idx):
-            sh = A[s_idx[idx]] + T_eq[c_idx[idx]][:, None] * B[s_idx[idx]]
+            sh = A[s_idx[idx]] + temperature_of(x, c_idx[idx])[:, None] * B[s_idx[idx]]
             return conversion_at(x, c_idx[idx], sh) - tgt[idx]
 
         n_all = s_idx.size
-        width = np.where(np.isfinite(sigma[c_idx]), 5.0 * sigma[c_idx] + min_width, hi - lo)
-        a = np.maximum(x0[c_idx] - width, lo)
-        b = np.minimum(x0[c_idx] + width, hi)
+        width = np.where(np.isfinite(sigma[c_idx]), 5.0 * sigma[c_idx] + min_width, hi_c - lo_c)
+        a = np.maximum(x0[c_idx] - width, lo_c)
+        b = np.minimum(x0[c_idx] + width, hi_c)
         fab = f(np.concatenate([a, b]), np.concatenate([np.arange(n_all), np.arange(n_all)]))
         fa, fb = fab[:n_all], fab[n_all:]
         same = np.isfinite(fa) & np.isfinite(fb) & (np.sign(fa) == np.sign(fb)) & (fa != 0)
@@ -1547,7 +1490,7 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
         ext = np.flatnonzero(same & (direction != 0))
         if ext.size:
             up = direction[ext] > 0
-            end = np.where(up, hi, lo)
+            end = np.where(up, hi_c[ext], lo_c[ext])
             fe = f(end, ext)
             crosses = np.isfinite(fe) & (np.sign(fe) != np.sign(fa[ext]))
             na, nb = np.where(up, b[ext], end), np.where(up, end, a[ext])

@@ -19,12 +19,12 @@ from __future__ import annotations
 
 import pathlib
 import sys
-import time
 
 import numpy as np
 
 sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1]))
 from cantera_reference import cantera_phase  # noqa: E402
+from timing import best_of  # noqa: E402
 
 from eqdesign.solve.energy import adiabatic_equilibrium  # noqa: E402
 from eqdesign.thermo import bundled_database  # noqa: E402
@@ -47,15 +47,6 @@ SWEEPS = {
     "SO2 converter first bed, 650-750 K x 6-12 % SO2, 1.2 bar (4 species)": so2_sweep,
     "methane-air with radicals and NO, 300-700 K x phi 0.5-1.2, 1 atm (11 species)": flame_sweep,
 }
-
-
-def best_of(fn, repeats):
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t0)
-    return min(times), out
 
 
 def main(n_T: int = 40, n_x: int = 25) -> None:

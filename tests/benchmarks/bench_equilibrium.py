@@ -12,12 +12,12 @@ from __future__ import annotations
 
 import pathlib
 import sys
-import time
 
 import numpy as np
 
 sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1]))
 from cantera_reference import cantera_phase  # noqa: E402
+from timing import best_of  # noqa: E402
 
 from eqdesign.solve import equilibrium  # noqa: E402
 from eqdesign.thermo import bundled_database  # noqa: E402
@@ -30,15 +30,6 @@ SWEEPS = {
         ["CH4", "H2O", "CO", "CO2", "H2"], {"CH4": 1.0, "H2O": 3.0},
         (700.0, 1200.0), (1e5, 40e5)),
 }
-
-
-def best_of(fn, repeats):
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t0)
-    return min(times), out
 
 
 def main(n_T: int = 40, n_P: int = 25) -> None:
