@@ -1155,8 +1155,18 @@ def _bracketed_roots(f, a, b, fa, fb, *, xtol: float, ftol: float, max_iter: int
     return best, ok
 
 
+class _AnswerRanking:
+    """Ranking shared by the interval results of the inverse questions."""
+
+    def ranking(self, *, at=None, by: str = "datum") -> tuple:
+        """Data ranked by their share of the answer's variance (averaged over the questions
+        unless ``at`` picks one)."""
+        c = self.sensitivity if at is None else self.sensitivity[at]
+        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
+
+
 @dataclass(frozen=True)
-class TemperatureUncertainty:
+class TemperatureUncertainty(_AnswerRanking):
     """The temperature for a target conversion, with its interval from data uncertainty.
 
     Scalars for one question; arrays of the broadcast shape of P and target otherwise.
@@ -1209,10 +1219,6 @@ class TemperatureUncertainty:
     def shape(self) -> tuple:
         return np.shape(self.T)
 
-    def ranking(self, *, at=None, by: str = "datum") -> tuple:
-        """Data ranked by their share of Var T (averaged over the questions unless ``at``)."""
-        c = self.sensitivity if at is None else self.sensitivity[at]
-        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
 
     def summary(self, at=None) -> str:
         """One sentence per question, e.g. ``"temperature for 20 % conversion of N2 at 200 bar:
@@ -1372,7 +1378,7 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
 
 
 @dataclass(frozen=True)
-class PressureUncertainty:
+class PressureUncertainty(_AnswerRanking):
     """The pressure for a target conversion, with its interval from data uncertainty.
 
     Scalars for one question; arrays of the broadcast shape of T and target otherwise.
@@ -1419,10 +1425,6 @@ class PressureUncertainty:
     def shape(self) -> tuple:
         return np.shape(self.P)
 
-    def ranking(self, *, at=None, by: str = "datum") -> tuple:
-        """Data ranked by their share of Var ln P (averaged over the questions unless ``at``)."""
-        c = self.sensitivity if at is None else self.sensitivity[at]
-        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
 
 
 def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *, method, samples, seed,
@@ -1614,7 +1616,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
 
 
 @dataclass(frozen=True)
-class FeedRatioUncertainty:
+class FeedRatioUncertainty(_AnswerRanking):
     """The feed ratio for a target conversion, with its interval from data uncertainty.
 
     Attributes as :class:`PressureUncertainty`, with ``ratio``, ``lower``, ``median``,
@@ -1648,10 +1650,6 @@ class FeedRatioUncertainty:
     def shape(self) -> tuple:
         return np.shape(self.ratio)
 
-    def ranking(self, *, at=None, by: str = "datum") -> tuple:
-        """Data ranked by their share of Var ln(ratio)."""
-        c = self.sensitivity if at is None else self.sensitivity[at]
-        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
 
 
 def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P, key: str, target, *,
