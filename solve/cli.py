@@ -27,6 +27,14 @@ from ..thermo import (
     DatabaseError, Reaction, ReactionError, UnitError, UnknownSpeciesError, bundled_database,
     to_kelvin, to_pascal,
 )
+from .casefile.yaml_lines import CaseError
+from .core.result import EquilibriumInputError
+from .report.run import OutputExistsError
+from .report.output import check_output_folder
+from .core.equilibrium import equilibrium
+from .casefile.reader import load_case
+from .report.run import run_case
+from .report.output import write_outputs
 
 EXIT_INPUT = 2
 
@@ -104,7 +112,7 @@ def cmd_species(args) -> int:
         raise InputProblem(str(exc)) from None
     print(f"{sp.name}  ({sp.common_name or sp.formula})")
     print(f"  formula        {sp.formula}")
-    print(f"  elements       " + ", ".join(f"{k} {v:g}" for k, v in sp.elements.items()))
+    print("  elements       " + ", ".join(f"{k} {v:g}" for k, v in sp.elements.items()))
     print(f"  phase          {sp.phase}")
     print(f"  molar mass     {sp.molar_mass:.4f} g/mol")
     print(f"  valid range    {sp.T_min:g}-{sp.T_max:g} K")
@@ -137,7 +145,6 @@ def _parse_feed(items) -> dict:
 
 
 def cmd_point(args) -> int:
-    from .equilibrium import EquilibriumInputError, equilibrium
     db = bundled_database()
     feed = _parse_feed(args.feed)
     species = list(args.species or [])
@@ -208,7 +215,6 @@ class ProgressBar:
 
 
 def _load_case(path: str):
-    from .cases import CaseError, load_case
     try:
         return load_case(path)
     except CaseError as exc:
@@ -239,8 +245,6 @@ def default_output_folder(case_path: str) -> Path:
 
 
 def cmd_run(args) -> int:
-    from .equilibrium import EquilibriumInputError
-    from .runner import OutputExistsError, check_output_folder, run_case, write_outputs
     case = _load_case(args.case)
     outdir = Path(args.output) if args.output else default_output_folder(args.case)
     try:

@@ -23,9 +23,10 @@ from html.parser import HTMLParser
 
 import pytest
 
-from eqdesign.solve.cases import load_case, parse_case
-from eqdesign.solve.report import build_report
-from eqdesign.solve.runner import csv_text, output_files, run_case
+from eqdesign.solve.casefile.reader import load_case, parse_case
+from eqdesign.solve.report.html import build_report
+from eqdesign.solve.report.output import csv_text, output_files
+from eqdesign.solve.report.run import run_case
 from eqdesign.thermo import R, Reaction
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]

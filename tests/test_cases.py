@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from eqdesign.solve import equilibrium
-from eqdesign.solve.cases import CaseError, load_case, parse_case
+from eqdesign.solve.casefile.yaml_lines import CaseError
+from eqdesign.solve.casefile.reader import load_case, parse_case
 from eqdesign.thermo import Reaction
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]
@@ -231,7 +232,7 @@ def test_grid_and_ratio_helpers(db):
 
 def test_every_layout_key_is_documented():
     """cases/README.md names every key the loader accepts (the layout reference stays complete)."""
-    from eqdesign.solve import cases as c
+    from eqdesign.solve.casefile import schema as c
     doc = (ROOT / "cases" / "README.md").read_text(encoding="utf-8")
     keys = set()
     for name in dir(c):
@@ -298,7 +299,7 @@ def test_a_supplied_species_carries_its_own_uncertainty():
     """Reaction data with their uncertainties: the reaction's K(T) then carries u(ΔrH°),
     u(ΔrS°) alone, u²(ln K) = u²(ΔrH°)/(RT)² + u²(ΔrS°)/R² (GUM, independent data; ν = 2 on
     the species and 1/ν on its data cancel)."""
-    from eqdesign.solve.uncertainty import ln_K_uncertainty
+    from eqdesign.solve.studies.uncertainty import ln_K_uncertainty
     from eqdesign.thermo import R
     text = BASE.replace("NH3", "NH3k") + "  uncertainty: {method: linear}\n" + UNCERTAIN_REACTION_SPECIES
     case = parse_case(text, "x.yaml")
@@ -320,7 +321,7 @@ def test_uncertainty_defaults_file_is_read_relative_to_the_case(tmp_path):
     """A defaults file of one's own (here the bundled one with u(ΔfH°(NH3)) doubled, invented)
     is found beside the case file and replaces the bundled defaults."""
     from importlib import resources
-    from eqdesign.solve.uncertainty import parameter_map
+    from eqdesign.solve.studies.uncertainty import parameter_map
     bundled = resources.files("eqdesign.data").joinpath("uncertainty_defaults.yaml").read_text(encoding="utf-8")
     own = re.sub(r"NH3:(\s*)\{formation_enthalpy: 350.0", r"NH3:\1{formation_enthalpy: 700.0", bundled)
     assert own != bundled

@@ -12,10 +12,11 @@ import sys
 import numpy as np
 import pytest
 
-from eqdesign.solve import cli, runner
-from eqdesign.solve.cases import load_case
-from eqdesign.solve.energy import adiabatic_equilibrium
-from eqdesign.solve.equilibrium import equilibrium
+from eqdesign.solve import cli
+from eqdesign.solve.report import output as runner
+from eqdesign.solve.casefile.reader import load_case
+from eqdesign.solve.studies.adiabatic import adiabatic_equilibrium
+from eqdesign.solve.core.equilibrium import equilibrium
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"

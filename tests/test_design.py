@@ -26,11 +26,10 @@ from hypothesis import strategies as st
 
 from cantera_reference import cantera_phase
 from eqdesign.solve import equilibrium
-from eqdesign.solve.design import (
-    CARBON_ROUTES, carbon_activity, carbon_activity_by_route, carbon_limit, feed_ratio_for_conversion,
-    graphite_stable, pressure_for_conversion, temperature_for_conversion,
-)
-from eqdesign.solve.equilibrium import EquilibriumInputError
+from eqdesign.solve.studies.carbon import CARBON_ROUTES, carbon_activity, carbon_activity_by_route, graphite_stable
+from eqdesign.solve.studies.carbon_limit import carbon_limit
+from eqdesign.solve.studies.inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
+from eqdesign.solve.core.result import EquilibriumInputError
 from eqdesign.thermo import R, Reaction
 
 NH3 = ["N2", "H2", "NH3"]

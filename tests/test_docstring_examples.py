@@ -13,8 +13,8 @@ import eqdesign.thermo
 
 def _modules():
     for pkg in (eqdesign.thermo, eqdesign.solve):
-        for info in pkgutil.iter_modules(pkg.__path__):
-            yield f"{pkg.__name__}.{info.name}"
+        for info in pkgutil.walk_packages(pkg.__path__, prefix=f"{pkg.__name__}."):
+            yield info.name
 
 
 @pytest.mark.parametrize("name", sorted(_modules()))

@@ -19,10 +19,9 @@ from scipy.optimize import brentq
 
 from cantera_reference import cantera_phase
 from eqdesign.solve import NotConvergedWarning, equilibrium
-from eqdesign.solve.energy import (
-    CAUTION, adiabatic_equilibrium, feed_enthalpy, isothermal_duty, mixture_enthalpy,
-    staged_converter,
-)
+from eqdesign.solve.studies.adiabatic import CAUTION, adiabatic_equilibrium
+from eqdesign.solve.studies.enthalpy import feed_enthalpy, isothermal_duty, mixture_enthalpy
+from eqdesign.solve.studies.beds import staged_converter
 from eqdesign.thermo import FormationDataModel, R, Reaction, Species
 
 SO2_NAMES = ["SO2", "O2", "SO3", "N2"]

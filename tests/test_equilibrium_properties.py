@@ -32,8 +32,9 @@ from hypothesis import strategies as st
 from scipy.optimize import linprog
 
 from eqdesign.solve import equilibrium
-from eqdesign.solve.equilibrium import NotConvergedWarning, element_matrix, total_gibbs_RT
-from eqdesign.solve.gibbs_core import initial_state, minimise_gibbs
+from eqdesign.solve.core.result import NotConvergedWarning, total_gibbs_RT
+from eqdesign.solve.core.problem import element_matrix
+from eqdesign.solve.core.newton import initial_state, minimise_gibbs
 from eqdesign.thermo import P_STANDARD, Reaction, bundled_database
 
 #: C-H-O-N species that may form (all-species mode), graphite included.

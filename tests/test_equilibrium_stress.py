@@ -22,7 +22,7 @@ from scipy.optimize import brentq
 
 from cantera_reference import cantera_phase
 from eqdesign.solve import EquilibriumInputError, NotConvergedWarning, equilibrium
-from eqdesign.solve.equilibrium import element_matrix
+from eqdesign.solve.core.problem import element_matrix
 from eqdesign.thermo import P_STANDARD, R, Reaction, SpeciesDatabase, bundled_database
 
 ATM = 101325.0            # [Pa]

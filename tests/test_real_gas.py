@@ -30,7 +30,7 @@ import pytest
 from scipy.optimize import brentq
 
 from eqdesign.solve import NotConvergedWarning, equilibrium
-from eqdesign.solve.equilibrium import element_matrix
+from eqdesign.solve.core.problem import element_matrix
 from eqdesign.thermo import P_STANDARD, Reaction
 from eqdesign.thermo.peng_robinson import (
     CubicParameters, binary_interaction_matrix, log_fugacity_coefficients,
@@ -307,7 +307,7 @@ def test_condensation_flag_marks_states_where_the_gas_would_be_liquid():
     mixture's own composition only.
     """
     import warnings as _w
-    from eqdesign.solve.equilibrium import CondensationWarning
+    from eqdesign.solve.core.result import CondensationWarning
     with _w.catch_warnings():
         _w.simplefilter("ignore", CondensationWarning)
         co2 = equilibrium(["CH4", "CO2"], {"CH4": 0.02, "CO2": 0.98}, 290.0,
@@ -335,7 +335,7 @@ def test_condensation_flag_finds_dew_points_of_gas_mixtures():
     Chemistry WebBook, from memory), so it condenses at 320 and 400 K but not at 450 K.
     """
     import warnings as _w
-    from eqdesign.solve.equilibrium import CondensationWarning
+    from eqdesign.solve.core.result import CondensationWarning
     with _w.catch_warnings():
         _w.simplefilter("ignore", CondensationWarning)
         wet = equilibrium(["N2", "H2O"], {"N2": 0.9, "H2O": 0.1}, np.array([300.0, 350.0, 400.0, 450.0]),

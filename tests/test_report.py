@@ -9,10 +9,11 @@ from html.parser import HTMLParser
 import numpy as np
 import pytest
 
-from eqdesign.solve import plots
-from eqdesign.solve.cases import load_case, parse_case
-from eqdesign.solve.report import build_report, format_cell
-from eqdesign.solve.runner import csv_text, output_files, run_case
+from eqdesign.solve.report import figures as plots
+from eqdesign.solve.casefile.reader import load_case, parse_case
+from eqdesign.solve.report.html import build_report, format_cell
+from eqdesign.solve.report.output import csv_text, output_files
+from eqdesign.solve.report.run import run_case
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 

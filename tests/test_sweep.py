@@ -21,8 +21,9 @@ import pytest
 
 from cantera_reference import cantera_phase
 from eqdesign.solve import equilibrium
-from eqdesign.solve.design import carbon_activity, graphite_stable
-from eqdesign.solve.sweep import approach_kelvin, conversion_map
+from eqdesign.solve.studies.carbon import carbon_activity, graphite_stable
+from eqdesign.solve.studies.feeds import approach_kelvin
+from eqdesign.solve.studies.maps import conversion_map
 from eqdesign.thermo import UnitError
 
 NH3 = ["N2", "H2", "NH3"]

@@ -17,11 +17,12 @@ import math
 import numpy as np
 import pytest
 
-from eqdesign.solve.uncertainty import (
-    ASSUMPTIONS, CAUTION, UncertaintyDefaults, UncertaintyInputError, html_section, ln_K_uncertainty,
-    parameter_map, propagate_equilibrium, ranking_rows, reaction_level_ln_K_uncertainty, settings_from_mapping,
-    species_uncertainty, temperature_interval,
-)
+from eqdesign.solve.studies.uncertainty import ASSUMPTIONS, ln_K_uncertainty, parameter_map, propagate_equilibrium, ranking_rows, reaction_level_ln_K_uncertainty
+from eqdesign.solve.studies.uncertainty import CAUTION
+from eqdesign.thermo.data_uncertainty import UncertaintyDefaults, UncertaintyInputError, species_uncertainty
+from eqdesign.solve.report.uncertainty_html import html_section
+from eqdesign.solve.casefile.uncertainty_settings import settings_from_mapping
+from eqdesign.solve.studies.intervals import temperature_interval
 from eqdesign.thermo import R, ReactionLevelData, SpeciesDatabase, bundled_database
 
 AMMONIA = ["N2", "H2", "NH3"]
@@ -145,7 +146,7 @@ def test_reaction_level_data_ln_K_uncertainty():
 def test_reaction_derived_species_carries_only_its_reaction_uncertainty():
     """A species defined by reaction data (Hess's law over its partners) gives that reaction a
     K(T) independent of the partners' data: u(ln K) is u(ΔrH°), u(ΔrS°) alone (GUM)."""
-    cases = pytest.importorskip("eqdesign.solve.cases")
+    cases = pytest.importorskip("eqdesign.thermo.reactions")
     db = bundled_database()
     level = ReactionLevelData.from_K(K_ref=1e-3, T_ref=700.0, delta_h=-92e3, text="N2 + 3 H2 = 2 AMX")
     model = cases.ReactionDerivedModel(level, ((db["N2"], -1.0), (db["H2"], -3.0)), 2.0)
@@ -248,7 +249,7 @@ def test_approach_takes_the_side_with_lower_conversion():
 # ------------------------------------------------------------------ inverse question
 def test_temperature_interval_nominal_matches_design_question():
     """The nominal answer is the design module's answer (refined further)."""
-    from eqdesign.solve.design import temperature_for_conversion
+    from eqdesign.solve.studies.inverse import temperature_for_conversion
     ans = temperature_for_conversion(AMMONIA, FEED, "200 bar", "N2", 0.2, T_range=(500, 1000))
     r = temperature_interval(AMMONIA, FEED, "200 bar", "N2", 0.2, T_range=(500, 1000), method="linear")
     assert r.T == pytest.approx(ans.T, abs=2e-3)
@@ -304,7 +305,7 @@ def test_band_rows_plot_and_html():
     import matplotlib
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
-    from eqdesign.solve.uncertainty_plot import draw_band, draw_temperature_interval
+    from eqdesign.solve.report.uncertainty_figures import draw_band, draw_temperature_interval
     T = np.linspace(650.0, 900.0, 6)
     r = propagate_equilibrium(AMMONIA, FEED, T, "200 bar", key="N2", samples=100, seed=1)
     band = r.band()
@@ -358,7 +359,8 @@ def test_pressure_interval_matches_the_analytic_spread_of_ln_K():
     K (P/P°)² (Kx = K (P/P°)^-Δn, Δn = -2), so at a fixed conversion d ln P = -½ d ln K and
     u(ln P) = ½ u(ln K), with Var ln K = Σ ν_i² (u_H,i²/(RT)² + u_S,i²/R²) for independent
     species data (GUM, JCGM 100:2008, law of propagation of uncertainty)."""
-    from eqdesign.solve.uncertainty import ln_K_uncertainty, pressure_interval
+    from eqdesign.solve.studies.uncertainty import ln_K_uncertainty
+    from eqdesign.solve.studies.intervals import pressure_interval
     T = 700.0
     lin = pressure_interval(AMMONIA, FEED, T, "N2", 0.40, P_range=("10 bar", "1000 bar"), method="linear")
     uK = ln_K_uncertainty("N2 + 3 H2 = 2 NH3", T).standard_uncertainty
@@ -378,7 +380,8 @@ def test_feed_ratio_interval_matches_the_analytic_spread_for_the_shift():
     """CO + H2O = CO2 + H2 from 1 mol CO and r mol H2O (Δn = 0): at conversion X,
     K = X² / ((1 - X)(r - X)), so r = X + X²/(K (1 - X)) and d ln r/d ln K = -(r - X)/r;
     hence u(ln r) = (r - X)/r · u(ln K) (GUM, JCGM 100:2008, first-order propagation)."""
-    from eqdesign.solve.uncertainty import feed_ratio_interval, ln_K_uncertainty
+    from eqdesign.solve.studies.intervals import feed_ratio_interval
+    from eqdesign.solve.studies.uncertainty import ln_K_uncertainty
     species, X, T = ["CO", "H2O", "CO2", "H2"], 0.99, 500.0
     lin = feed_ratio_interval(species, {"CO": 1.0}, T, "20 bar", "CO", X, ratio=("H2O", "CO"),
                               ratio_range=(0.5, 10.0), method="linear")

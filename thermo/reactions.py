@@ -22,7 +22,6 @@ import numpy as np
 
 from .database import SpeciesDatabase, UnknownSpeciesError
 from .models import P_STANDARD, R, T_REF, EnthalpyEntropyModel, FormationDataModel
-from .species import Species
 from .units import to_kelvin, to_pascal
 
 

@@ -26,7 +26,7 @@ sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1]))
 from cantera_reference import cantera_phase  # noqa: E402
 from timing import best_of  # noqa: E402
 
-from eqdesign.solve.energy import adiabatic_equilibrium  # noqa: E402
+from eqdesign.solve import adiabatic_equilibrium  # noqa: E402
 from eqdesign.thermo import bundled_database  # noqa: E402
 
 

@@ -26,7 +26,7 @@ import numpy as np
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))   # tests/ for cantera_reference
 
 from cantera_reference import cantera_phase                      # noqa: E402
-from eqdesign.solve.sweep import conversion_map                 # noqa: E402
+from eqdesign.solve import conversion_map                 # noqa: E402
 from eqdesign.thermo import bundled_database                    # noqa: E402
 
 #: name -> (species, base feed, T axis [K], P axis [Pa], (numerator, denominator, ratio axis))

@@ -12,8 +12,8 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
-from ..thermo.models import R
-from ..thermo.peng_robinson import CubicParameters, binary_interaction_matrix, gas_state
+from ...thermo.models import R
+from ...thermo.peng_robinson import CubicParameters, binary_interaction_matrix, gas_state
 
 
 class FugacityModel:

@@ -25,6 +25,8 @@ from typing import Callable
 
 import numpy as np
 
+from . import compiled as compiled_core     # the compiled kernel (numba); the numpy path below serves real gases and fallbacks
+
 #: Floor of ln(n_j) for gas species [ln mol]: far below anything that matters, above underflow.
 LN_FLOOR = -690.0
 #: RP-1311's size limit for "trace" species: ln(1e-8).
@@ -56,10 +58,6 @@ class CoreOutcome:
     state: CoreState
 
 
-try:  # the compiled kernel (numba); the numpy path below serves real gases and fallbacks
-    from . import compiled_core
-except ImportError:  # pragma: no cover - numba is a declared dependency
-    compiled_core = None
 
 
 def _minimise_compiled(g0_gas, g0_cond, A_gas, A_cond, b, ln_p, state, tolerance, max_iterations,

@@ -15,8 +15,10 @@ from importlib import metadata
 
 import numpy as np
 
-from . import plots
-from .cases import LAYOUT_ID
+from ..studies.uncertainty import ASSUMPTIONS, CAUTION
+
+from . import figures as plots
+from ..casefile.schema import LAYOUT_ID
 
 ZERO_CELSIUS = 273.15
 #: Resolution of the figures embedded in the report [dots per inch].
@@ -269,7 +271,6 @@ def _uncertainty_section(result) -> str:
     design temperatures with their intervals, the sensitivity rankings, the band, the
     standard uncertainties used with their sources, and the caution.  Self-contained:
     citations are text, nothing is linked or loaded."""
-    from .uncertainty import ASSUMPTIONS, CAUTION
     u = result.uncertainty
     case = result.case
     tables = {t.name: t for t in result.tables if t.section == "uncertainty"}
@@ -359,7 +360,7 @@ def _uncertainty_section(result) -> str:
 
 
 def build_report(result, images: dict | None = None) -> str:
-    """The report of a :class:`eqdesign.solve.runner.RunResult` as one HTML document.
+    """The report of a :class:`eqdesign.solve.report.run.RunResult` as one HTML document.
 
     ``images`` maps figure names to PNG bytes already rendered (they are embedded as
     they are); other figures are rendered here at ``REPORT_DPI``.
@@ -387,7 +388,7 @@ def build_report(result, images: dict | None = None) -> str:
                        "tables; see the solver diagnostics." if flagged else
                        '<span class="ok">Every point converged.</span>') + "</li>")
     if result.extrapolations:
-        h.append(f'<li><span class="flag">Species data were extrapolated</span> beyond their valid range: see '
+        h.append('<li><span class="flag">Species data were extrapolated</span> beyond their valid range: see '
                  "the data provenance.</li>")
     for f in result.findings:
         h.append(f"<li>{_e(f)}</li>")

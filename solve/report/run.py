@@ -1,7 +1,7 @@
 """Run a validated case: every study, its tables and figures, then the output folder.
 
-    from eqdesign.solve.cases import load_case
-    from eqdesign.solve.runner import run_case, write_outputs
+    from eqdesign.solve.casefile import load_case
+    from eqdesign.solve.report import run_case, write_outputs
     result = run_case(load_case("cases/ammonia_loop_pressure_options.yaml"))
     write_outputs(result, "ammonia_results")
 
@@ -14,29 +14,38 @@ existing, non-empty folder is replaced only with ``force=True``.
 """
 from __future__ import annotations
 
-import csv
-import hashlib
-import io
-import json
 import math
-import os
 import re
-import shutil
-import tempfile
 import time
 import warnings
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
-from pathlib import Path
 from typing import Callable
 
 import numpy as np
 
-from ..thermo.reactions import Reaction
-from ..thermo.species import ExtrapolationWarning
-from . import plots
-from .cases import LOW_T_MARGIN, Case, FeedRatio
-from .equilibrium import CondensationWarning, NotConvergedWarning, equilibrium
+from ..casefile.schema import FeedRatio
+
+from ...thermo.reactions import Reaction
+from ...thermo.species import ExtrapolationWarning
+from ..studies.uncertainty import Band
+from ..casefile.schema import Case
+from ..core.result import CondensationWarning
+from ..casefile.schema import LOW_T_MARGIN
+from ..core.result import NotConvergedWarning
+from ...thermo.data_uncertainty import UncertaintyDefaults
+from ..studies.carbon_limit import carbon_limit
+from ..studies.maps import conversion_map
+from ..studies.inverse import feed_ratio_for_conversion
+from ..studies.intervals import feed_ratio_interval
+from . import figures as plots
+from ..studies.inverse import pressure_for_conversion
+from ..studies.intervals import pressure_interval
+from ..studies.uncertainty import propagate_equilibrium
+from ..studies.beds import staged_converter
+from ..studies.inverse import temperature_for_conversion
+from ..studies.intervals import temperature_interval
+
 
 ZERO_CELSIUS = 273.15
 #: Reduced resolution (``coarse=True``): at most this many temperatures in a grid.
@@ -282,7 +291,7 @@ def run_case(case: Case, *, coarse: bool = False, progress: ProgressFactory | No
     Parameters
     ----------
     case : Case
-        From :func:`eqdesign.solve.cases.load_case`.
+        From :func:`eqdesign.solve.casefile.load_case`.
     coarse : bool
         Reduced resolution for a quick look (at most 13 temperatures per grid, fewer
         ratios); the report says so.
@@ -365,7 +374,6 @@ class _Run:
         return self.progress(label) if self.progress else None
 
     def _map(self, label: str, *, T, P, feed_ratio: FeedRatio | None = None, gas_model=None, ratios=None):
-        from .sweep import conversion_map
         c = self.case
         kw = self.common()
         if gas_model:
@@ -538,7 +546,6 @@ class _Run:
 
     # --------------------------------------------------------------- targets
     def targets(self) -> None:
-        from .design import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
         c = self.case
         kw = self.common()
         rows = []
@@ -606,10 +613,6 @@ class _Run:
         target (one call per question, all its pressures together); add the interval
         columns to the targets table, the band and ranking tables, and the record the
         report states."""
-        from .uncertainty import (
-            Band, UncertaintyDefaults, feed_ratio_interval, pressure_interval, propagate_equilibrium,
-            temperature_interval,
-        )
         c = self.case
         st = c.studies.uncertainty
         kw = st.as_kwargs()
@@ -921,7 +924,6 @@ class _Run:
 
     # --------------------------------------------------------------- staged beds
     def staged_beds(self) -> None:
-        from .energy import staged_converter
         c = self.case
         st = c.studies.staged_beds
         kw = self.common()
@@ -971,7 +973,6 @@ class _Run:
 
     # --------------------------------------------------------------- carbon limit
     def carbon_limit(self) -> None:
-        from .design import carbon_limit
         c = self.case
         st = c.studies.carbon_limit
         T = st.temperature.values()
@@ -1068,7 +1069,7 @@ def _ranked(ranking) -> list:
 
 def _falls_with_temperature(ans, i: int) -> bool | None:
     """Whether conversion falls with temperature through the i-th answer of a
-    :class:`eqdesign.solve.design.TemperatureAnswer` (None when unknown)."""
+    :class:`eqdesign.solve.studies.inverse.TemperatureAnswer` (None when unknown)."""
     if ans is None:
         return None
     crossings = np.asarray(ans.crossings, dtype=object).reshape(-1)
@@ -1160,184 +1161,3 @@ def _long_table(name: str, title: str, m, case: Case, ratio=None) -> Table:
     rows = [list(r) for r in zip(*[np.asarray(d).tolist() for d in data])]
     return Table(name, title, cols, rows, in_report=False,
                  note="Long format, one row per grid point.")
-
-
-# ============================================================================ writing
-def csv_text(table: Table) -> str:
-    """The table as CSV text (units in the header row; missing values left empty).
-
-    >>> print(csv_text(Table("t", "T", ["T [K]", "conversion [-]", "converged [-]"],
-    ...                      [[700.0, 0.25, True], [800.0, float("nan"), False]])), end="")
-    T [K],conversion [-],converged [-]
-    700,0.25,1
-    800,,0
-    """
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow(table.columns)
-    for row in table.rows:
-        w.writerow([_csv_cell(v) for v in row])
-    return buf.getvalue()
-
-
-def _csv_cell(v):
-    if isinstance(v, (bool, np.bool_)):
-        return "1" if v else "0"
-    if isinstance(v, (float, np.floating)):
-        return "" if not np.isfinite(v) else f"{float(v):.10g}"
-    return v
-
-
-def write_atomic(path: Path, data: bytes) -> None:
-    """Write ``data`` to ``path`` through a temporary file in the same folder and
-    :func:`os.replace`: readers see the old file or the complete new one, never a part."""
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as f:
-            f.write(data)
-            f.flush()
-            os.fsync(f.fileno())
-        os.chmod(tmp, 0o666 & ~_umask())          # mkstemp makes owner-only files
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
-
-
-def _umask() -> int:
-    mask = os.umask(0o022)
-    os.umask(mask)
-    return mask
-
-
-def check_output_folder(outdir: str | Path, force: bool) -> None:
-    """Raise :class:`OutputExistsError` when ``outdir`` exists (and is not an empty
-    folder) and ``force`` is false."""
-    p = Path(outdir)
-    if p.exists() and not force:
-        if p.is_dir() and not any(p.iterdir()):
-            return
-        raise OutputExistsError(f"{p}: exists; eqdesign never overwrites results: choose another folder with -o, "
-                                "or add --force to replace it")
-    if p.exists() and not p.is_dir():
-        raise OutputExistsError(f"{p}: is a file, not a folder; choose another name with -o")
-
-
-def output_files(result: RunResult) -> dict:
-    """File name -> bytes of every output of a run (report, tables, figures, case copy)."""
-    from .report import build_report
-    case = result.case
-    files: dict[str, bytes] = {}
-    if case.output.tables:
-        for t in result.tables:
-            files[f"{t.name}.csv"] = csv_text(t).encode("utf-8")
-    pngs = {}
-    for f in result.figures:
-        if case.output.report or "png" in case.output.plot_formats:
-            pngs[f.name] = plots.render(f.figure, "png")
-        for fmt in case.output.plot_formats:
-            files[f"{f.name}.{fmt}"] = pngs[f.name] if fmt == "png" else plots.render(f.figure, fmt)
-    if case.output.report:
-        files["report.html"] = build_report(result, images=pngs).encode("utf-8")
-    files["case.yaml"] = case.text.encode("utf-8")
-    files["run_summary.json"] = json.dumps(run_summary(result), indent=2).encode("utf-8")
-    return files
-
-
-def run_summary(result: RunResult) -> dict:
-    """Machine-readable summary of a run."""
-    case = result.case
-    return {
-        "case_file": case.file,
-        "case_sha256": hashlib.sha256(case.text.encode("utf-8")).hexdigest(),
-        "title": case.title,
-        "started": result.started,
-        "elapsed_s": round(result.elapsed, 3),
-        "study_times_s": {k: round(v, 3) for k, v in result.study_times.items()},
-        "reduced_resolution": result.coarse,
-        "points_flagged": result.flagged,
-        "largest_residual": None if not np.isfinite(result.largest_residual) else result.largest_residual,
-        "extrapolations": result.extrapolations,
-        "findings": result.findings,
-        "tables": [f"{t.name}.csv" for t in result.tables] if case.output.tables else [],
-        "figures": [f"{f.name}.{fmt}" for f in result.figures for fmt in case.output.plot_formats],
-        "uncertainty": _uncertainty_summary(result.uncertainty),
-    }
-
-
-def _uncertainty_summary(u: UncertaintyRecord | None) -> dict | None:
-    if u is None:
-        return None
-
-    def num(x):
-        x = float(x)
-        return x if math.isfinite(x) else ("+inf" if x > 0 else "-inf") if math.isinf(x) else None
-    return {"method": u.method, "samples": u.samples, "seed": u.seed, "level": u.level,
-            "temperature_intervals_K": [{"question": e["label"], "P_bar": e["P"] / 1e5, "T": num(e["T"]),
-                                         "lower": num(e["lower"]), "upper": num(e["upper"]), "u": num(e["u"])}
-                                        for e in u.intervals]}
-
-
-def write_outputs(result: RunResult, outdir: str | Path, *, force: bool = False) -> list[Path]:
-    """Write every output of a run into the folder ``outdir``, all or nothing.
-
-    The files are written (each atomically) into a temporary folder beside ``outdir``,
-    which is then renamed to ``outdir``; with ``force`` an existing ``outdir`` is moved
-    aside first and deleted after the rename.  On any failure the temporary folder is
-    removed and an existing ``outdir`` is left as it was.
-
-    Returns
-    -------
-    list[Path]
-        The files written.
-    """
-    outdir = Path(outdir)
-    check_output_folder(outdir, force)
-    files = output_files(result)
-    parent = outdir.parent if str(outdir.parent) else Path(".")
-    created = []                                  # folders made for the output, innermost last
-    p = parent.absolute()
-    while not p.exists():
-        created.insert(0, p)
-        p = p.parent
-    parent.mkdir(parents=True, exist_ok=True)
-    old = None
-    try:
-        tmp = Path(tempfile.mkdtemp(prefix=f".{outdir.name}.partial-", dir=parent))
-    except BaseException:
-        _remove_empty(created)
-        raise
-    try:
-        for name, data in files.items():
-            write_atomic(tmp / name, data)
-        os.chmod(tmp, 0o777 & ~_umask())
-        if outdir.exists():
-            if outdir.is_dir() and not any(outdir.iterdir()):
-                outdir.rmdir()
-            else:
-                old = Path(tempfile.mkdtemp(prefix=f".{outdir.name}.old-", dir=parent))
-                os.rmdir(old)
-                os.replace(outdir, old)
-        os.replace(tmp, outdir)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        if old is not None and old.exists() and not outdir.exists():
-            os.replace(old, outdir)
-        _remove_empty(created)
-        raise
-    if old is not None:
-        shutil.rmtree(old, ignore_errors=True)
-    return [outdir / name for name in files]
-
-
-def _remove_empty(folders: list) -> None:
-    """Remove folders made for an output that failed, innermost first, if still empty."""
-    for folder in reversed(folders):
-        try:
-            folder.rmdir()
-        except OSError:
-            break

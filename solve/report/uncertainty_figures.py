@@ -16,7 +16,7 @@ ZERO_CELSIUS = 273.15
 if TYPE_CHECKING:     # pragma: no cover
     from matplotlib.axes import Axes
 
-    from .uncertainty import Band
+    from ..studies.uncertainty import Band
 
 
 def draw_band(ax: "Axes", band: "Band", *, label: str | None = None, nominal_label: str | None = "nominal data",
@@ -29,7 +29,7 @@ def draw_band(ax: "Axes", band: "Band", *, label: str | None = None, nominal_lab
     ----------
     ax : matplotlib.axes.Axes
     band : Band
-        From :meth:`eqdesign.solve.uncertainty.EquilibriumUncertainty.band`.
+        From :meth:`eqdesign.solve.studies.uncertainty.EquilibriumUncertainty.band`.
     label : str, optional
         Legend text of the band (default :attr:`Band.label`, e.g. "95 % interval (Monte
         Carlo, 400 draws)").
@@ -60,7 +60,7 @@ def draw_band(ax: "Axes", band: "Band", *, label: str | None = None, nominal_lab
     >>> import matplotlib
     >>> matplotlib.use("Agg")
     >>> import matplotlib.pyplot as plt
-    >>> from eqdesign.solve.uncertainty import Band
+    >>> from eqdesign.solve import Band
     >>> b = Band(x=np.array([600., 700.]), nominal=np.array([.5, .3]), lower=np.array([.45, .26]),
     ...          median=np.array([.5, .3]), upper=np.array([.55, .34]), level=0.95,
     ...          quantity="conversion N2", unit="-", x_label="temperature [K]", method="linear")
@@ -104,7 +104,7 @@ def draw_temperature_interval(ax: "Axes", answer, *, at=None, percent: bool = Fa
     ----------
     ax : matplotlib.axes.Axes
     answer : TemperatureUncertainty
-        From :func:`eqdesign.solve.uncertainty.temperature_interval`.
+        From :func:`eqdesign.solve.studies.intervals.temperature_interval`.
     at : int, optional
         Which question, for an array answer.
     percent : bool

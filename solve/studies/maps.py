@@ -1,6 +1,6 @@
 """Conversion maps: equilibrium over a grid of temperature, pressure, feed ratio and inert.
 
-    from eqdesign.solve.sweep import conversion_map
+    from eqdesign.solve import conversion_map
     m = conversion_map(["N2", "H2", "NH3"], {"N2": 1, "H2": 3}, T=[650, 700, 750],
                        P=["100 bar", "200 bar"], key="N2", product="NH3")
     m.conversion            # shape (3, 2): temperature axis first, then pressure
@@ -25,196 +25,24 @@ from typing import Callable, Mapping, Sequence
 
 import numpy as np
 
-from ..thermo.database import SpeciesDatabase
-from ..thermo.reactions import Reaction, bundled_database
-from ..thermo.units import UREG, UnitError, to_si
-from .equilibrium import EquilibriumInputError, EquilibriumResult, NotConvergedWarning, equilibrium
-
-#: Points solved per batched call of :func:`equilibrium` in a map.
-DEFAULT_CHUNK = 2000
-
-#: Name of the steam species used by steam-to-carbon ratios.
-STEAM = "H2O"
-
-
-# --------------------------------------------------------------------------- input helpers
-def approach_kelvin(approach) -> float | None:
-    """A temperature approach to equilibrium as a temperature *difference* [K].
-
-    Parameters
-    ----------
-    approach : None | float | str | pint.Quantity
-        ``None`` (no approach), a number [K], or a temperature difference such as
-        ``"10 K"`` or ``"10 delta_degC"``.  Offset units (``"10 degC"``) are refused
-        because they denote a temperature, not a difference.
-
-    Returns
-    -------
-    float | None
-        ΔT [K], non-negative.
-
-    Examples
-    --------
-    >>> approach_kelvin("10 delta_degC")
-    10.0
-    >>> approach_kelvin(15)
-    15.0
-    """
-    if approach is None:
-        return None
-    if isinstance(approach, str) or hasattr(approach, "units"):
-        try:
-            q = UREG.Quantity(approach) if isinstance(approach, str) else approach
-        except Exception as exc:
-            raise UnitError(f"cannot read approach {approach!r} as a temperature difference: {exc}") from None
-        if not hasattr(q, "units"):
-            value = float(q)
-        else:
-            try:
-                zero = UREG.Quantity(0.0, q.units).to("K").magnitude
-            except Exception:
-                raise UnitError(f"approach {approach!r} is not a temperature difference; "
-                                "give e.g. '10 K' or '10 delta_degC'") from None
-            if abs(zero) > 0:
-                raise UnitError(f"approach {approach!r} is a temperature, not a difference; "
-                                "write '10 K' or '10 delta_degC'")
-            value = float(q.to("K").magnitude)
-    else:
-        value = float(approach)
-    if not np.isfinite(value) or value < 0:
-        raise EquilibriumInputError(
-            f"approach must be a finite, non-negative temperature difference, got {approach!r}")
-    return value
+from ...thermo.database import SpeciesDatabase
+from ...thermo.reactions import Reaction, bundled_database
+from .feeds import DEFAULT_CHUNK
+from ..core.result import EquilibriumInputError
+from ..core.result import EquilibriumResult
+from .feeds import FeedRatio
+from ..core.result import NotConvergedWarning
+from .feeds import STEAM
+from .feeds import apply_inert
+from .feeds import approach_kelvin
+from .feeds import axis_values
+from .carbon import carbon_activity
+from ..core.equilibrium import equilibrium
+from .feeds import feed_ratio_spec
+from .feeds import product_per_key_from_reactions
+from .feeds import resolve_feed
 
 
-def axis_values(value, kind: str, what: str) -> np.ndarray | None:
-    """A sweep axis as a float array in SI: 0-d for a fixed value, 1-d for an axis.
-
-    Numbers are taken as SI; strings and pint quantities are converted; a list of strings
-    (``["400 degC", "450 degC"]``) is converted element by element.
-    """
-    if value is None:
-        return None
-    if isinstance(value, (list, tuple)) and len(value) and all(isinstance(v, str) for v in value):
-        arr = np.array([to_si(v, kind) for v in value], dtype=float)
-    else:
-        arr = np.asarray(to_si(value, kind), dtype=float)
-    if arr.ndim > 1:
-        raise EquilibriumInputError(f"{what} must be a single value or a 1-D array, got shape {arr.shape}")
-    if arr.ndim == 1 and arr.size == 0:
-        raise EquilibriumInputError(f"{what} is an empty array")
-    if np.any(~np.isfinite(arr)):
-        raise EquilibriumInputError(f"{what} must be finite")
-    return arr
-
-
-def resolve_feed(feed: Mapping[str, object], db: SpeciesDatabase) -> dict[str, float]:
-    """Feed mapping with database names and amounts [mol] as floats (one feed, no arrays)."""
-    out: dict[str, float] = {}
-    for name, amount in feed.items():
-        v = to_si(amount, "amount")
-        if np.ndim(v) != 0:
-            raise EquilibriumInputError(
-                f"feed of {name} must be a single amount here; sweep it with feed_ratio= or inert=")
-        v = float(v)
-        if not np.isfinite(v) or v < 0:
-            raise EquilibriumInputError(f"feed of {name} must be finite and non-negative")
-        out[db.resolve(name)] = out.get(db.resolve(name), 0.0) + v
-    return out
-
-
-def hydrocarbon_carbon(feed: Mapping[str, float], db: SpeciesDatabase) -> float:
-    """Carbon atoms [mol] in the feed species that contain both carbon and hydrogen.
-
-    This is the carbon of the steam-to-carbon ratio as reformer operators use it: the
-    carbon of the hydrocarbon (and other organic) feed, not that of CO or CO2.
-    """
-    total = 0.0
-    for name, n in feed.items():
-        el = db[name].elements
-        if el.get("C", 0) > 0 and el.get("H", 0) > 0:
-            total += n * el["C"]
-    return total
-
-
-@dataclass(frozen=True)
-class FeedRatio:
-    """A feed-ratio specification: ``numerator`` amount = ratio × ``denominator`` amount.
-
-    ``denominator`` is a species name, or ``"carbon"`` for the steam-to-carbon ratio
-    (carbon atoms of the feed species containing C and H, see :func:`hydrocarbon_carbon`).
-    """
-
-    numerator: str
-    denominator: str
-
-    @property
-    def label(self) -> str:
-        if self.denominator == "carbon":
-            return "steam-to-carbon"
-        return f"{self.numerator}/{self.denominator}"
-
-    def denominator_amount(self, feed: Mapping[str, float], db: SpeciesDatabase) -> float:
-        if self.denominator == "carbon":
-            amount = hydrocarbon_carbon(feed, db)
-            if amount <= 0:
-                raise EquilibriumInputError("steam-to-carbon ratio: the feed holds no hydrocarbon "
-                                            "(no species with both C and H)")
-            return amount
-        amount = feed.get(self.denominator, 0.0)
-        if amount <= 0:
-            raise EquilibriumInputError(f"feed ratio {self.label}: the feed has no {self.denominator}")
-        return amount
-
-    def apply(self, feed: Mapping[str, float], ratio: np.ndarray, db: SpeciesDatabase) -> dict:
-        """Feed amounts with the numerator set from ``ratio`` (array) [mol]."""
-        out = {k: np.asarray(v, dtype=float) for k, v in feed.items()}
-        out[self.numerator] = np.asarray(ratio, dtype=float) * self.denominator_amount(feed, db)
-        return out
-
-
-def feed_ratio_spec(ratio, db: SpeciesDatabase) -> FeedRatio:
-    """Read ``("H2O", "CH4")`` or ``"steam_to_carbon"`` as a :class:`FeedRatio`."""
-    if isinstance(ratio, FeedRatio):
-        return ratio
-    if isinstance(ratio, str):
-        if ratio.replace("-", "_").lower() in ("steam_to_carbon", "s/c"):
-            return FeedRatio(STEAM, "carbon")
-        raise EquilibriumInputError(f"ratio {ratio!r}: give a pair such as ('H2O', 'CO') or 'steam_to_carbon'")
-    try:
-        num, den = ratio
-    except (TypeError, ValueError):
-        raise EquilibriumInputError(f"ratio {ratio!r}: give a pair such as ('H2O', 'CO')") from None
-    num, den = db.resolve(num), db.resolve(den)
-    if num == den:
-        raise EquilibriumInputError(f"feed ratio {num}/{den}: numerator and denominator are the same species")
-    return FeedRatio(num, den)
-
-
-def apply_inert(feed: Mapping[str, np.ndarray], inert: str, fraction: np.ndarray) -> dict:
-    """Feed with the mole fraction of ``inert`` set to ``fraction`` [-]; the other species
-    keep their ratios and their total is scaled by (1 − fraction), so the total feed is
-    the total of the other species as given."""
-    fraction = np.asarray(fraction, dtype=float)
-    if np.any(fraction < 0) or np.any(fraction >= 1):
-        raise EquilibriumInputError(f"inert fraction of {inert} must lie in [0, 1)")
-    others = {k: np.asarray(v, dtype=float) for k, v in feed.items() if k != inert}
-    total = sum(others.values())
-    out = {k: v * (1.0 - fraction) for k, v in others.items()}
-    out[inert] = fraction * total
-    return out
-
-
-def product_per_key_from_reactions(reactions: Sequence[Reaction], key: str, product: str) -> float | None:
-    """Moles of product per mole of key reactant in the first named reaction holding both."""
-    for r in reactions:
-        st = r.stoichiometry
-        if st.get(key, 0.0) < 0 and st.get(product, 0.0) > 0:
-            return st[product] / -st[key]
-    return None
-
-
-# --------------------------------------------------------------------------- solving
 def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.ndarray, P: np.ndarray, *,
                  key: str, reactions=None, gas_model: str = "ideal", approach: float | None = None,
                  database: SpeciesDatabase | None = None) -> tuple[EquilibriumResult, np.ndarray]:
@@ -346,7 +174,7 @@ class ConversionMap:
         (see :func:`reaction_enthalpy_per_key`); negative for heat released.
     carbon_activity : ndarray | None
         Activity of graphite implied by the equilibrium gas [-] (C-containing systems):
-        above 1, graphite is thermodynamically stable (:func:`eqdesign.solve.design.carbon_activity`).
+        above 1, graphite is thermodynamically stable (:func:`eqdesign.solve.studies.carbon.carbon_activity`).
     converged : ndarray of bool
         Non-converged points are NaN everywhere.
     conditions : dict[str, float]
@@ -589,8 +417,6 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
     resid = np.full(n_points, np.nan)
     its = np.zeros(n_points, dtype=int)
     T_eq = T_flat.copy()
-    if has_carbon:
-        from .design import carbon_activity
     for start in range(0, n_points, chunk):
         sl = slice(start, min(start + chunk, n_points))
         res, side = solve_points(names, {k: v[sl] for k, v in feed_flat.items()}, T_flat[sl], P_flat[sl],

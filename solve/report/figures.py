@@ -11,12 +11,11 @@ import io
 from dataclasses import replace
 from typing import Iterable, Sequence
 
-import matplotlib
-
-matplotlib.use("Agg", force=True)
-
-import numpy as np  # noqa: E402
-from matplotlib.figure import Figure  # noqa: E402
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+from .uncertainty_figures import draw_band
+from .uncertainty_figures import draw_temperature_interval
 
 #: Slide size [in].
 FIGSIZE = (10.0, 5.6)
@@ -63,6 +62,7 @@ def _celsius(T_K) -> np.ndarray:
 def render(fig: Figure, fmt: str, dpi: int = PNG_DPI) -> bytes:
     """The figure as PNG or SVG bytes."""
     buf = io.BytesIO()
+    FigureCanvasAgg(fig)     # this figure only: the user's matplotlib backend is never switched
     kw = {"dpi": dpi} if fmt == "png" else {"metadata": {"Date": None}}
     fig.savefig(buf, format=fmt, **kw)
     return buf.getvalue()
@@ -96,14 +96,13 @@ def conversion_vs_temperature(T: np.ndarray, curves: Sequence[tuple[str, np.ndar
         labels short (e.g. the temperature).
     approach : float
         Approach margin [K] used, noted in the axis label.
-    bands : sequence of eqdesign.solve.uncertainty.Band, optional
+    bands : sequence of eqdesign.solve.studies.uncertainty.Band, optional
         Interval of the conversion [-] against operating temperature [K] (one per curve).
     intervals : sequence of (TemperatureUncertainty, index[, colour]), optional
         Temperature answers [K] with their intervals, marked at the target conversion (in
         the colour of their curve; the caps and the labels of ``design_points`` carry the
         numbers in greyscale).
     """
-    from .uncertainty_plot import draw_band, draw_temperature_interval
     fig, ax = _figure(title or f"Equilibrium conversion of {key} against temperature")
     x = _celsius(T)
     for i, band in enumerate(bands):

@@ -1,0 +1,295 @@
+"""User species blocks of a case file: formation data or reaction-level data.
+"""
+from __future__ import annotations
+
+import re
+from dataclasses import replace
+from typing import Mapping
+
+
+from ...thermo.database import DatabaseError, SpeciesDatabase, UnknownSpeciesError, species_from_mapping
+from ...thermo.elements import molar_mass as molar_mass_of, parse_formula
+from ...thermo.models import T_REF
+from ...thermo.reactions import ReactionDerivedModel, ReactionLevelData, parse_side, ReactionError
+from ...thermo.species import CriticalConstants, Species
+from .schema import CRITICAL_KEYS
+from .schema import FORMATION_KEYS
+from .schema import REACTION_DATA_KEYS
+from .schema import SPAN_KEYS
+from .schema import USER_SPECIES_KEYS
+from .schema import USER_UNCERTAINTY_KEYS
+from .schema import UserSpeciesRecord
+from .checker import _Checker
+from .units import _UnitProblem
+from .checker import _join
+from .units import _number
+# ====================================================================== user species
+
+
+def _user_species(doc, ck: _Checker, base_db: SpeciesDatabase) -> list[UserSpeciesRecord]:
+    block = doc["user_species"]
+    if not isinstance(block, Mapping):
+        ck.add("user_species", "give a mapping NAME: {formula, source, formation_data or reaction_data}",
+               ck.line_of(doc, "user_species"))
+        return []
+    out = []
+    for name, entry in block.items():
+        path = _join("user_species", str(name))
+        line = ck.line_of(block, name)
+        name = str(name)
+        if name in base_db:
+            ck.add(path, f"{name} is already in the database (as {base_db.resolve(name)}); choose another name "
+                   "for your own data", line)
+            continue
+        sec = ck.section(block, name, path, USER_SPECIES_KEYS, ("source",), what="species")
+        if sec is None:
+            continue
+        has_f, has_r = "formation_data" in sec, "reaction_data" in sec
+        if has_f == has_r:
+            ck.add(path, "give exactly one of formation_data (ΔfH°, S°, cp) or reaction_data (a reaction and "
+                   "its ΔrH°, ΔrS° or K)", line)
+            continue
+        source = ck.text(sec, "source", f"{path}.source")
+        phase = str(sec.get("phase", "gas"))
+        if phase not in ("gas", "solid", "liquid"):
+            ck.add(f"{path}.phase", f"{phase!r} is not gas, solid or liquid", ck.line_of(sec, "phase"))
+            continue
+        critical = None
+        if "critical" in sec:
+            crit = ck.section(sec, "critical", f"{path}.critical", CRITICAL_KEYS, CRITICAL_KEYS,
+                              what="critical-constant")
+            if crit is None or not all(k in crit for k in CRITICAL_KEYS):
+                continue
+            tc = ck.quantity(crit, "Tc", f"{path}.critical.Tc", "temperature")
+            pc = ck.quantity(crit, "Pc", f"{path}.critical.Pc", "pressure", positive=True)
+            try:
+                om = _number(crit["omega"])
+            except _UnitProblem as exc:
+                ck.add(f"{path}.critical.omega", str(exc), ck.line_of(crit, "omega"))
+                continue
+            if tc is None or pc is None:
+                continue
+            critical = CriticalConstants(tc, pc, om, source)
+        if has_f:
+            rec = _formation_species(ck, sec, name, path, phase, source, critical)
+        else:
+            rec = _reaction_species(ck, sec, name, path, phase, source, critical, base_db)
+        if rec is not None:
+            out.append(rec)
+    return out
+
+
+def _valid_range(ck, sec, path, default):
+    if "valid" not in sec:
+        return default
+    g = ck.section(sec, "valid", f"{path}.valid", SPAN_KEYS, SPAN_KEYS, what="range")
+    if g is None or "low" not in g or "high" not in g:
+        return None
+    lo = ck.quantity(g, "low", f"{path}.valid.low", "temperature")
+    hi = ck.quantity(g, "high", f"{path}.valid.high", "temperature")
+    if lo is None or hi is None:
+        return None
+    if hi <= lo:
+        ck.add(f"{path}.valid", "high must be above low", ck.line_of(sec, "valid"))
+        return None
+    return (lo, hi)
+
+
+def _cp_coefficients(ck, parent, key, path) -> tuple | None:
+    value = parent[key]
+    if isinstance(value, list):
+        if not 1 <= len(value) <= 5:
+            ck.add(path, "give 1 to 5 coefficients [c0, c1, c2, c3, c_2] (SI: J/(mol K), J/(mol K²), ...)",
+                   ck.line_of(parent, key))
+            return None
+        try:
+            return tuple(_number(v) for v in value)
+        except _UnitProblem as exc:
+            ck.add(path, str(exc) + "; list coefficients as plain SI numbers", ck.line_of(parent, key))
+            return None
+    v = ck.quantity(parent, key, path, "molar_heat_capacity")
+    return None if v is None else (v,)
+
+
+def _formation_species(ck, sec, name, path, phase, source, critical) -> UserSpeciesRecord | None:
+    fpath = f"{path}.formation_data"
+    f = ck.section(sec, "formation_data", fpath, FORMATION_KEYS, ("enthalpy", "entropy", "cp"), what="formation-data")
+    if f is None or not all(k in f for k in ("enthalpy", "entropy", "cp")):
+        return None
+    if "formula" not in sec:
+        ck.add(path, "missing key 'formula'; give the chemical formula, e.g. formula: C2H6O",
+               getattr(sec, "line", None))
+        return None
+    dh = ck.quantity(f, "enthalpy", f"{fpath}.enthalpy", "molar_energy")
+    s = ck.quantity(f, "entropy", f"{fpath}.entropy", "molar_entropy")
+    cp = _cp_coefficients(ck, f, "cp", f"{fpath}.cp")
+    bounds = _valid_range(ck, f, fpath, (T_REF, 1500.0))
+    unc = _data_uncertainty(ck, f, fpath, ("formation_enthalpy", "entropy"))
+    if None in (dh, s, cp, bounds, unc):
+        return None
+    if s <= 0:
+        ck.add(f"{fpath}.entropy", "a standard entropy is positive (third law)", ck.line_of(f, "entropy"))
+        return None
+    entry = {"formula": str(sec["formula"]), "phase": phase,
+             "thermo": {"model": "formation-data", "formation_enthalpy": dh, "entropy": s, "cp": list(cp),
+                        "T_bounds": list(bounds), "reference": "CASE"}}
+    try:
+        sp = species_from_mapping(name, entry, {"CASE": {"cite": source, "standard_pressure_Pa": 1e5}}, ck.file)
+    except DatabaseError as exc:
+        ck.add(f"{path}.formula", str(exc).split(": ", 2)[-1], ck.line_of(sec, "formula"))
+        return None
+    if critical is not None:
+        sp = _with_critical(sp, critical)
+    detail = (f"ΔfH°(298.15 K) = {dh / 1000:g} kJ/mol, S° = {s:g} J/(mol K), cp coefficients {list(cp)}, "
+              f"valid {bounds[0]:g}-{bounds[1]:g} K" + _uncertainty_detail(unc))
+    return UserSpeciesRecord(name, "formation data", source, detail, sp, unc)
+
+
+_UNCERTAINTY_SYMBOLS = {"formation_enthalpy": ("ΔfH°", 1000.0, "kJ/mol"), "entropy": ("S°", 1.0, "J/(mol K)"),
+                        "reaction_enthalpy": ("ΔrH°", 1000.0, "kJ/mol"),
+                        "reaction_entropy": ("ΔrS°", 1.0, "J/(mol K)")}
+
+
+def _data_uncertainty(ck, parent, path, kinds: tuple) -> dict | None:
+    """Standard uncertainties given with a species' own data (``uncertainty: {enthalpy,
+    entropy}`` inside ``formation_data`` or ``reaction_data``), as {datum kind: SI value};
+    {} when none are given, None on a problem."""
+    if "uncertainty" not in parent:
+        return {}
+    upath = f"{path}.uncertainty"
+    m = ck.section(parent, "uncertainty", upath, USER_UNCERTAINTY_KEYS, what="uncertainty")
+    if m is None:
+        return None
+    out, ok = {}, True
+    for key, kind, unit_kind, example in (("enthalpy", kinds[0], "molar_energy", "'1.5 kJ/mol'"),
+                                          ("entropy", kinds[1], "molar_entropy", "'0.5 J/(mol K)'")):
+        if key not in m:
+            continue
+        v = ck.quantity(m, key, f"{upath}.{key}", unit_kind)
+        if v is None:
+            ok = False
+            continue
+        if v < 0:
+            ck.add(f"{upath}.{key}", f"{m[key]!r}: a standard uncertainty is zero or positive; give e.g. {example}",
+                   ck.line_of(m, key))
+            ok = False
+            continue
+        out[kind] = v
+    return out if ok else None
+
+
+def _uncertainty_detail(unc: dict) -> str:
+    parts = []
+    for kind, u in unc.items():
+        symbol, scale, unit = _UNCERTAINTY_SYMBOLS[kind]
+        parts.append(f"u({symbol}) = {u / scale:g} {unit}")
+    return ("; standard uncertainties " + ", ".join(parts)) if parts else ""
+
+
+def _with_critical(sp: Species, critical: CriticalConstants) -> Species:
+    return replace(sp, critical=critical)
+
+
+def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserSpeciesRecord | None:
+    rpath = f"{path}.reaction_data"
+    r = ck.section(sec, "reaction_data", rpath, REACTION_DATA_KEYS, ("reaction", "enthalpy"), what="reaction-data")
+    if r is None or "reaction" not in r or "enthalpy" not in r:
+        return None
+    text = r["reaction"]
+    if not isinstance(text, str) or "=" not in text:
+        ck.add(f"{rpath}.reaction", f"write the reaction that forms {name} as text, e.g. 'A + B = {name}'",
+               ck.line_of(r, "reaction"))
+        return None
+    sides = re.split(r"\s*(?:<=>|<->|=)\s*", text.strip())
+    if len(sides) != 2:
+        ck.add(f"{rpath}.reaction", "write it as 'reactants = products' with one '='", ck.line_of(r, "reaction"))
+        return None
+    stoich: dict[str, float] = {}
+    try:
+        for sign, side in ((-1.0, sides[0]), (1.0, sides[1])):
+            for term, c in parse_side(side, db, text).items():
+                stoich[term] = stoich.get(term, 0.0) + sign * c
+    except ReactionError as exc:
+        ck.add(f"{rpath}.reaction", str(exc), ck.line_of(r, "reaction"))
+        return None
+    if name not in stoich or stoich[name] == 0:
+        ck.add(f"{rpath}.reaction", f"{text!r} does not contain {name}; write the reaction that forms it",
+               ck.line_of(r, "reaction"))
+        return None
+    partners = []
+    for term, nu in stoich.items():
+        if term == name or nu == 0:
+            continue
+        try:
+            partners.append((db[term], nu))
+        except UnknownSpeciesError as exc:
+            ck.add(f"{rpath}.reaction", f"{exc}; every other species of the reaction must be in the database",
+                   ck.line_of(r, "reaction"))
+            return None
+    nu_x = stoich[name]
+    elements: dict[str, float] = {}
+    for sp, nu in partners:
+        for el, n in sp.elements.items():
+            elements[el] = elements.get(el, 0.0) - nu * n / nu_x
+    elements = {el: round(n, 9) for el, n in elements.items() if abs(n) > 1e-9}
+    if any(n < 0 for n in elements.values()) or not elements:
+        ck.add(f"{rpath}.reaction", f"{text!r} cannot balance for any composition of {name}; check the reaction",
+               ck.line_of(r, "reaction"))
+        return None
+    formula = str(sec.get("formula", name))
+    if "formula" in sec:
+        try:
+            given = {k: float(v) for k, v in parse_formula(formula).items()}
+        except ValueError as exc:
+            ck.add(f"{path}.formula", str(exc), ck.line_of(sec, "formula"))
+            return None
+        if given != elements:
+            detail = ", ".join(f"{el} {n:g}" for el, n in sorted(elements.items()))
+            ck.add(f"{rpath}.reaction", f"{text!r} does not balance with formula {formula} (the reaction needs "
+                   f"{detail}); correct the coefficients or the formula", ck.line_of(r, "reaction"))
+            return None
+    dh = ck.quantity(r, "enthalpy", f"{rpath}.enthalpy", "molar_energy")
+    t_ref = T_REF
+    if "at" in r:
+        t_ref = ck.quantity(r, "at", f"{rpath}.at", "temperature")
+    has_s, has_k = "entropy" in r, "K" in r
+    if has_s == has_k:
+        ck.add(rpath, "give exactly one of entropy (ΔrS° at 'at') or K (the equilibrium constant at 'at')",
+               getattr(r, "line", None))
+        return None
+    dcp = (0.0,)
+    if "cp_change" in r:
+        dcp = _cp_coefficients(ck, r, "cp_change", f"{rpath}.cp_change")
+    bounds = _valid_range(ck, r, rpath, (200.0, 3000.0))
+    unc = _data_uncertainty(ck, r, rpath, ("reaction_enthalpy", "reaction_entropy"))
+    if None in (dh, t_ref, dcp, bounds, unc):
+        return None
+    dn = float(sum(nu for sp, nu in partners if sp.is_gas) + (nu_x if phase == "gas" else 0.0))
+    if has_k:
+        if "at" not in r:
+            ck.add(f"{rpath}.at", "missing: say at which temperature K applies, e.g. at: '500 K'",
+                   getattr(r, "line", None))
+            return None
+        try:
+            K = _number(r["K"])
+        except _UnitProblem as exc:
+            ck.add(f"{rpath}.K", str(exc) + "; K is dimensionless on the 1 bar standard state", ck.line_of(r, "K"))
+            return None
+        if not K > 0:
+            ck.add(f"{rpath}.K", f"{r['K']!r}: an equilibrium constant is positive", ck.line_of(r, "K"))
+            return None
+        level = ReactionLevelData.from_K(K, t_ref, dh, delta_cp=dcp, T_bounds=bounds, delta_n_gas=dn, text=text)
+        shown = f"K = {K:g} at {t_ref:g} K"
+    else:
+        ds = ck.quantity(r, "entropy", f"{rpath}.entropy", "molar_entropy")
+        if ds is None:
+            return None
+        level = ReactionLevelData(dh, ds, t_ref, tuple(dcp), tuple(bounds), dn, text)
+        shown = f"ΔrS° = {ds:g} J/(mol K) at {t_ref:g} K"
+    model = ReactionDerivedModel(level, tuple(partners), nu_x)
+    sp = Species(name=name, formula=formula, elements=elements, phase=phase,
+                 molar_mass=molar_mass_of(elements), model=model, critical=critical, reference=source,
+                 data_note=f"derived from reaction data: {text}")
+    detail = (f"{text}: ΔrH° = {dh / 1000:g} kJ/mol, {shown}, ΔrCp coefficients {list(dcp)}, valid "
+              f"{model.T_min:g}-{model.T_max:g} K" + _uncertainty_detail(unc))
+    return UserSpeciesRecord(name, "reaction data", source, detail, sp, unc)
