@@ -19,7 +19,6 @@ from .database import SpeciesDatabase, UnknownSpeciesError
 from .reactions import bundled_database
 from .species import Species
 from .units import UnitError, to_si
-import yaml
 
 
 SCHEMA = "eqdesign.uncertainty-defaults/1"
@@ -204,6 +203,7 @@ class UncertaintyDefaults:
 
     @classmethod
     def from_text(cls, text: str, origin: str = "<text>") -> "UncertaintyDefaults":
+        import yaml      # on first use: importing eqdesign never loads the YAML reader
         try:
             doc = yaml.safe_load(text)
         except yaml.YAMLError as exc:

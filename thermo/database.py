@@ -16,7 +16,6 @@ from importlib import resources
 from pathlib import Path
 from typing import Iterable, Mapping
 
-import yaml
 
 from .elements import molar_mass as molar_mass_of, parse_formula
 from .models import P_STANDARD, FormationDataModel, Nasa7Polynomial
@@ -71,6 +70,7 @@ class SpeciesDatabase:
 
     @classmethod
     def from_text(cls, text: str, origin: str = "<text>") -> "SpeciesDatabase":
+        import yaml      # on first use: importing eqdesign never loads the YAML reader
         try:
             doc = yaml.load(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))
         except yaml.YAMLError as exc:

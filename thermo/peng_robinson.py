@@ -58,7 +58,6 @@ from importlib import resources
 from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
-import yaml
 
 from .models import R
 
@@ -656,6 +655,7 @@ class BinaryInteractionTable:
     @classmethod
     def from_text(cls, text: str, origin: str = "<text>") -> "BinaryInteractionTable":
         """Parse our YAML layout: ``pairs`` (list of {pair, kij, reference}) and ``references``."""
+        import yaml      # on first use: importing eqdesign never loads the YAML reader
         document = yaml.safe_load(text) or {}
         references = document.get("references") or {}
         values, sources = {}, {}
