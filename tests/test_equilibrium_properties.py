@@ -59,6 +59,24 @@ CONSERVATION_RTOL = 1e-10
 SETTINGS = settings(max_examples=40, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])
 
+#: States on which each property was actually checked in this run (converged states only).
+#: Every property test asserts a minimum, so a property cannot pass vacuously by having
+#: all of its examples skipped as "not converged".
+CHECKED: dict[str, int] = {}
+#: Fewest states that each property must check out of its 40 (plus pinned) examples.
+MIN_CHECKED = 30
+
+
+def _count(name: str) -> None:
+    CHECKED[name] = CHECKED.get(name, 0) + 1
+
+
+def _run_counted(name: str, prop, **fixed) -> None:
+    """Run the hypothesis property ``prop`` and assert it checked at least MIN_CHECKED states."""
+    CHECKED[name] = 0
+    prop(**fixed)
+    assert CHECKED[name] >= MIN_CHECKED, f"{name}: only {CHECKED[name]} states checked"
+
 temperatures = st.floats(min_value=400.0, max_value=2000.0)
 pressures = st.floats(min_value=np.log(0.1e5), max_value=np.log(300e5)).map(np.exp)   # [Pa]
 feeds = st.dictionaries(st.sampled_from(FEED_SPECIES), st.floats(min_value=1e-3, max_value=10.0),
@@ -95,8 +113,7 @@ def _elements(database, names):
 @SETTINGS
 @given(feed=feeds, T=temperatures, P=pressures)
 @example(feed={"CH4": 1.0, "H2O": 0.2}, T=900.0, P=1e5)          # graphite present
-def test_elements_conserved_and_amounts_non_negative(database, feed, T, P):
-    """A n = A n0 to 1e-10 of the atoms fed, and n >= 0 (White, Johnson, Dantzig 1958)."""
+def _conservation_property(database, feed, T, P):
     res = _solve(SPECIES, feed, T, P)
     if not _flagged_or_finite(res):
         return
@@ -104,6 +121,12 @@ def test_elements_conserved_and_amounts_non_negative(database, feed, T, P):
     b0 = A @ res.feed_array
     assert np.abs(A @ res.amount_array - b0).max() <= CONSERVATION_RTOL * b0.sum()
     assert np.all(res.amount_array >= 0.0)
+    _count("conservation")
+
+
+def test_elements_conserved_and_amounts_non_negative(database):
+    """A n = A n0 to 1e-10 of the atoms fed, and n >= 0 (White, Johnson, Dantzig 1958)."""
+    _run_counted("conservation", _conservation_property, database=database)
 
 
 def _feasible_directions(A, n, rng, n_random=6):
@@ -177,16 +200,22 @@ def _assert_no_feasible_descent(res, A, seed):
 @example(feed={"CH4": 1.0, "H2O": 0.2}, T=900.0, P=1e5, seed=1)              # graphite present
 @example(feed={"CO": 1.0, "H2": 0.5, "N2": 0.3}, T=700.0, P=20e5, seed=2)     # graphite present
 @example(feed={"CH4": 1.0, "H2O": 3.0}, T=1100.0, P=30e5, seed=3)             # graphite absent
-def test_no_feasible_perturbation_lowers_gibbs_energy(database, feed, T, P, seed):
-    """G(n + eps v) >= G(n) for directions v in the null space of the element matrix with
-    n + eps v >= 0, including forming graphite or any trace species from the species
-    present (the minimum principle of White, Johnson and Dantzig 1958)."""
+def _gibbs_minimum_property(database, feed, T, P, seed):
     res = _solve(SPECIES, feed, T, P)
     if not _flagged_or_finite(res):
         return
     A = _elements(database, res.species)
     checked = _assert_no_feasible_descent(res, A, seed)
     event("perturbations checked: " + ("none" if checked == 0 else "1-20" if checked <= 20 else "> 20"))
+    if checked:
+        _count("gibbs minimum")
+
+
+def test_no_feasible_perturbation_lowers_gibbs_energy(database):
+    """G(n + eps v) >= G(n) for directions v in the null space of the element matrix with
+    n + eps v >= 0, including forming graphite or any trace species from the species
+    present (the minimum principle of White, Johnson and Dantzig 1958)."""
+    _run_counted("gibbs minimum", _gibbs_minimum_property, database=database)
 
 
 def test_gibbs_minimum_examples_cover_graphite_present_and_absent():
@@ -221,12 +250,7 @@ def _core_problem(database, feed, T, P):
 @given(feed=feeds, T=temperatures, P=pressures,
        ln_gas=st.lists(st.floats(-40.0, 5.0), min_size=len(SPECIES), max_size=len(SPECIES)),
        ln_total=st.floats(-5.0, 5.0), graphite=st.floats(0.0, 2.0), graphite_in=st.booleans())
-def test_answer_does_not_depend_on_the_starting_guess(database, feed, T, P, ln_gas, ln_total,
-                                                      graphite, graphite_in):
-    """minimise_gibbs from random ln n, ln(total) and phase set reaches the same amounts
-    as from its default start, to 1e-9 relative (G is convex on the feasible set: one
-    minimum); amounts below 1e-10 of the feed agree to 1e-10 absolute, the conservation
-    tolerance that fixes them."""
+def _starting_guess_property(database, feed, T, P, ln_gas, ln_total, graphite, graphite_in):
     args = _core_problem(database, feed, T, P)
     n_gas, n_cond, m = args[0].shape[1], args[1].shape[1], args[2].shape[0]
     reference = minimise_gibbs(*args)
@@ -244,6 +268,15 @@ def test_answer_does_not_depend_on_the_starting_guess(database, feed, T, P, ln_g
     a = np.concatenate([reference.gas[0], reference.cond[0]])
     b = np.concatenate([other.gas[0], other.cond[0]])
     assert np.allclose(b, a, rtol=1e-9, atol=1e-10)
+    _count("starting guess")
+
+
+def test_answer_does_not_depend_on_the_starting_guess(database):
+    """minimise_gibbs from random ln n, ln(total) and phase set reaches the same amounts
+    as from its default start, to 1e-9 relative (G is convex on the feasible set: one
+    minimum); amounts below 1e-10 of the feed agree to 1e-10 absolute, the conservation
+    tolerance that fixes them."""
+    _run_counted("starting guess", _starting_guess_property, database=database)
 
 
 # --------------------------------------------------------------------------- named reactions
@@ -262,12 +295,7 @@ def _stoichiometric_matrix(reactions, names):
 @given(reactions=reaction_sets, feed=feeds, T=temperatures, P=pressures)
 @example(reactions=["CH4 = C(gr) + 2 H2", "CH4 + H2O = CO + 3 H2"], feed={"CH4": 1.0, "H2O": 0.5},
          T=900.0, P=1e5)                                                  # graphite forms
-def test_named_reactions_conserve_invariants_and_reach_K(reactions, feed, T, P):
-    """Only the named reactions proceed: n - n0 lies in the column space of the
-    stoichiometric matrix to 1e-10 of the feed; every reaction whose species are all
-    present has Q/K = 1 to 1e-8; a reaction that would form an absent pure condensed
-    species has Q/K >= 1 with that species at unit activity (it does not want to run
-    forward).  Smith and Missen (1982), ch. 2-3."""
+def _named_reactions_property(reactions, feed, T, P):
     species = sorted(set(feed) | {n for r in reactions for n in Reaction.parse(r).names})
     res = _solve(species, feed, T, P, reactions=reactions)
     if not _flagged_or_finite(res):
@@ -293,3 +321,13 @@ def test_named_reactions_conserve_invariants_and_reach_K(reactions, feed, T, P):
         elif np.all(n[idx][gas] > 0) and np.all(nu[~gas] > 0):
             ln_a = np.where(gas, np.log(np.where(gas, y[idx], 1.0) * P_ratio), 0.0)
             assert (nu * ln_a).sum() - ln_K >= -1e-9, text
+    _count("named reactions")
+
+
+def test_named_reactions_conserve_invariants_and_reach_K():
+    """Only the named reactions proceed: n - n0 lies in the column space of the
+    stoichiometric matrix to 1e-10 of the feed; every reaction whose species are all
+    present has Q/K = 1 to 1e-8; a reaction that would form an absent pure condensed
+    species has Q/K >= 1 with that species at unit activity (it does not want to run
+    forward).  Smith and Missen (1982), ch. 2-3."""
+    _run_counted("named reactions", _named_reactions_property)
