@@ -9,7 +9,7 @@ from hypothesis import given, settings, strategies as st
 from scipy.optimize import brentq
 
 from eqdesign.solve.studies.liquid import (
-    LiquidInputError, LiquidReaction, liquid_equilibrium, liquid_map,
+    LiquidInputError, LiquidReaction, liquid_equilibrium, liquid_map, removal_sweep,
 )
 from eqdesign.thermo.models import P_STANDARD, R
 from eqdesign.thermo.reactions import K_to_Kp, K_to_Kx, Kc_to_Kp, Kp_to_K, Kp_to_Kc, Kx_to_K, Reaction
@@ -170,3 +170,17 @@ def test_docstring_examples_of_the_module():
     import doctest
     import eqdesign.solve.studies.liquid as module
     assert doctest.testmod(module, optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE).failed == 0
+
+
+def test_water_removal_lever_against_hand_solution():
+    """Equimolar charge, K = 4: equilibrium (2/3), all water taken out, re-equilibrated: the
+    extra extent x solves (2/3 + x) x = 4 (1/3 - x)², i.e. 27 x² - 30 x + 4 = 0 (hand algebra).
+    More removal steps raise the conversion further, and no removal leaves 2/3."""
+    r = removal_sweep(ESTER, {"CH3COOH": 1.0, "C2H5OH": 1.0}, 298.15, species="H2O",
+                      removed_fraction=[0.0, 1.0], volume="0.1 L", key="CH3COOH")
+    x = (30 - math.sqrt(900 - 432)) / 54
+    np.testing.assert_allclose(r.conversion(), [2 / 3, 2 / 3 + x], atol=1e-10)
+    assert r.removed_amount.tolist() == pytest.approx([0.0, 2 / 3], abs=1e-10)
+    three = removal_sweep(ESTER, {"CH3COOH": 1.0, "C2H5OH": 1.0}, 298.15, species="H2O",
+                          removed_fraction=[0.5, 1.0], stages=3, volume="0.1 L", key="CH3COOH")
+    assert np.all(three.conversion() > r.conversion())

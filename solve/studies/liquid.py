@@ -567,3 +567,93 @@ def liquid_map(reactions, initial: Mapping[str, object], temperatures, *, vary: 
     grid[vary] = np.broadcast_to(r[None, :] * n_per, (T.size, r.size))
     res = liquid_equilibrium(reactions, grid, T[:, None], **kwargs)
     return LiquidMap(temperatures=T, ratios=r, vary=vary, per=per, result=res)
+
+
+@dataclass(frozen=True)
+class RemovalResult:
+    """Equilibrium after taking part of one species out between equilibrium stages.
+
+    Attributes
+    ----------
+    species_removed : str
+    removed_fraction : ndarray
+        Share of that species' equilibrium amount taken out at each stage [-], the axis of
+        every array.
+    stages : int
+    removed_amount : ndarray
+        Total amount taken out over all stages [mol].
+    result : LiquidEquilibriumResult
+        Equilibrium after the last removal (the initial amounts are the original charge, so
+        ``result.conversion`` counts from the charge).
+    """
+
+    species_removed: str
+    removed_fraction: np.ndarray = field(repr=False)
+    stages: int
+    removed_amount: np.ndarray = field(repr=False)
+    result: LiquidEquilibriumResult = field(repr=False)
+
+    def conversion(self, key: str | None = None) -> np.ndarray:
+        """Conversion of ``key`` from the original charge after the last stage [-]."""
+        return self.result.conversion(key)
+
+
+def removal_sweep(reactions, initial: Mapping[str, object], T, *, species: str, removed_fraction,
+                  stages: int = 1, **kwargs) -> RemovalResult:
+    """Equilibrium, take out a share of one species, re-equilibrate; ``stages`` times.
+
+    The lever of a reaction held back by its own product (water of an esterification taken
+    overhead or by a drying agent).  Vectorised over ``removed_fraction`` (and T).
+
+    Parameters
+    ----------
+    reactions, initial, T, kwargs
+        As for :func:`liquid_equilibrium` (with ``density``, the volume follows the mass left).
+    species : str
+        The species taken out.
+    removed_fraction : array_like
+        Share of its equilibrium amount removed at each stage [-], 0 to 1.
+    stages : int
+        Number of removal steps, each followed by a new equilibrium.
+
+    Examples
+    --------
+    Equimolar ester charge with K = 4: taking out all the water once lifts the conversion
+    from 2/3 by the root x of (2/3 + x) x = 4 (1/3 - x)², x = (30 - √468)/54, to 0.8216:
+
+    >>> ester = LiquidReaction.define("acid + alcohol = ester + water", K=4.0)
+    >>> r = removal_sweep(ester, {"acid": 1.0, "alcohol": 1.0}, 298.15, species="water",
+    ...                   removed_fraction=[0.0, 1.0], volume="0.1 L", key="acid")
+    >>> r.conversion().round(4).tolist()
+    [0.6667, 0.8216]
+    """
+    f = np.atleast_1d(np.asarray(to_si(removed_fraction, "dimensionless"), dtype=float))
+    if np.any(f < 0) or np.any(f > 1) or np.any(~np.isfinite(f)):
+        raise LiquidInputError("removed_fraction: give shares between 0 and 1 (0 % to 100 %)")
+    if int(stages) != stages or stages < 1:
+        raise LiquidInputError("stages: a whole number of removal steps, 1 or more")
+    charge = {k: np.asarray(to_si(v, "amount"), dtype=float) for k, v in initial.items()}
+    current = {k: v * np.ones_like(f) for k, v in charge.items()}
+    res = liquid_equilibrium(reactions, current, T, **kwargs)
+    if species not in res.species:
+        raise LiquidInputError(f"species {species!r}: name one of {list(res.species)}")
+    k = res.species.index(species)
+    removed = np.zeros(np.broadcast_shapes(f.shape, res.shape))
+    for _ in range(int(stages)):
+        amounts = res.amount_array.copy()
+        take = f * amounts[..., k]
+        removed = removed + take
+        amounts[..., k] -= take
+        current = {s: amounts[..., j] for j, s in enumerate(res.species)}
+        res = liquid_equilibrium(reactions, current, T, **kwargs)
+    n0 = np.broadcast_to(np.stack([np.broadcast_to(charge.get(s, 0.0), res.shape) for s in res.species],
+                                  axis=-1), res.initial_array.shape)
+    final = LiquidEquilibriumResult(
+        species=res.species, reactions=res.reactions, T=res.T, volume=res.volume, initial_array=n0.copy(),
+        amount_array=res.amount_array, extent_array=res.extent_array, K_array=res.K_array,
+        converged=res.converged, iterations=res.iterations, max_residual=res.max_residual, flags=res.flags,
+        message=res.message, notes=res.notes + (f"{species} removed in {int(stages)} step(s); amounts "
+                                                "and conversion count from the original charge.",),
+        key=res.key)
+    return RemovalResult(species_removed=species, removed_fraction=f, stages=int(stages),
+                         removed_amount=removed, result=final)
