@@ -146,3 +146,20 @@ def test_demo_files_are_reproducible(tmp_path):
     runpy.run_path(str(script), run_name="__main__")
     for name in ("plant_shift_samples.csv", "plant_reformer_samples.csv"):
         assert (tmp_path / name).read_text() == (CASES / name).read_text()
+
+
+def test_wet_file_and_dry_file_with_measured_water_agree(tmp_path):
+    """The same gas written as a wet analysis and as a dry analysis with a separately measured
+    water column (mol% wet) gives the same approach."""
+    wet = {"H2": 56.0, "CO": 0.21, "CO2": 15.0, "CH4": 4.0, "H2O": 24.79}
+    dry_total = 100.0 - wet["H2O"]
+    names = ["H2", "CO", "CO2", "CH4"]
+    wet_text = ("time,temperature,pressure,H2,CO,CO2,CH4,H2O\nISO 8601,degC,bar" + ",mol% wet" * 5 + "\n"
+                "2026-03-01T10:00,218,27.5," + ",".join(str(wet[k]) for k in names + ["H2O"]) + "\n")
+    dry_text = ("time,temperature,pressure,H2,CO,CO2,CH4,steam\nISO 8601,degC,bar" + ",mol% dry" * 4
+                + ",mol% wet\n2026-03-01T10:00,218,27.5,"
+                + ",".join(f"{100 * wet[k] / dry_total:.10f}" for k in names) + f",{wet['H2O']}\n")
+    a = plant_trend(_file(tmp_path, wet_text, "wet.csv"), WGS)
+    b = plant_trend(_file(tmp_path, dry_text, "dry.csv"), WGS)
+    assert a.samples.basis == "wet" and b.samples.basis == "dry" and b.samples.water is not None
+    assert b.result[WGS].approach[0] == pytest.approx(a.result[WGS].approach[0], abs=1e-8)
