@@ -21,7 +21,7 @@ Armijo test, run on all states at once.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Mapping, Sequence
+from typing import Mapping
 
 import numpy as np
 

@@ -20,7 +20,7 @@ the feed's steam-to-carbon ratio by an oxygen balance (see :func:`dry_to_wet`).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Mapping, Sequence
+from typing import Mapping
 
 import numpy as np
 
