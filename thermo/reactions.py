@@ -340,6 +340,16 @@ def K_to_Kp(K, delta_n: float, pressure_unit: float = P_STANDARD):
     return K * (P_STANDARD / pressure_unit) ** delta_n
 
 
+def Kp_to_K(Kp, delta_n: float, pressure_unit: float = P_STANDARD):
+    """Dimensionless K on the 1 bar standard state from Kp in (pressure_unit)^Δn; the inverse
+    of :func:`K_to_Kp`: ``K = Kp (unit / P°)^Δn``.
+
+    >>> round(Kp_to_K(K_to_Kp(3.0, -2, pressure_unit=101325.0), -2, pressure_unit=101325.0), 12)
+    3.0
+    """
+    return Kp * (pressure_unit / P_STANDARD) ** delta_n
+
+
 def Kp_to_Kc(Kp_pascal, delta_n: float, T):
     """Kc in (mol/m³)^Δn from Kp in Pa^Δn: ``Kc = Kp / (RT)^Δn`` (ideal gas)."""
     T = to_kelvin(T)
@@ -356,6 +366,12 @@ def K_to_Kx(K, delta_n: float, P):
     """Kx (mole-fraction quotient at equilibrium) at pressure P: ``Kx = K (P/P°)^-Δn``."""
     P = to_pascal(P)
     return K * (P / P_STANDARD) ** (-delta_n)
+
+
+def Kx_to_K(Kx, delta_n: float, P):
+    """Dimensionless K from Kx at pressure P, the inverse of :func:`K_to_Kx`: ``K = Kx (P/P°)^Δn``."""
+    P = to_pascal(P)
+    return Kx * (P / P_STANDARD) ** delta_n
 
 
 def reaction_quotient(reaction: Reaction, mole_fractions: Mapping[str, float], P):

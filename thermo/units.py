@@ -24,6 +24,8 @@ _DIMENSIONS = {
     "molar_entropy": ("J/mol/K", "[mass] * [length] ** 2 / [time] ** 2 / [substance] / [temperature]"),
     "molar_flow": ("mol/s", "[substance] / [time]"),
     "dimensionless": ("", "[]"),
+    "volume": ("m**3", "[length] ** 3"),
+    "density": ("kg/m**3", "[mass] / [length] ** 3"),
 }
 
 
@@ -76,6 +78,8 @@ def to_si(value: Any, kind: str) -> float | np.ndarray:
         return float(magnitude) if np.ndim(magnitude) == 0 else np.asarray(magnitude, dtype=float)
     if np.ndim(value) == 0:
         return float(value)
+    if isinstance(value, (list, tuple)) and any(isinstance(v, (str, pint.Quantity)) for v in value):
+        return np.array([to_si(v, kind) for v in value], dtype=float)   # ["450 degC", "460 degC"]
     return np.asarray(value, dtype=float)
 
 
@@ -95,3 +99,50 @@ def to_pascal(P: Any) -> float | np.ndarray:
     101325.0
     """
     return to_si(P, "pressure")
+
+
+def to_fraction(value: Any) -> float | np.ndarray:
+    """A mole fraction [-] from a fraction, a percentage string or a pint quantity.
+
+    ``"12.5 mol%"``, ``"12.5 %"``, ``"12.5 percent"`` and ``0.125`` all give 0.125; a list
+    or array of such values gives an array.  Bare numbers are fractions already.
+
+    >>> to_fraction("12.5 mol%")
+    0.125
+    >>> to_fraction(["50 %", "25 %"]).tolist()
+    [0.5, 0.25]
+    """
+    if isinstance(value, str):
+        text = value.strip()
+        for suffix in ("mol%", "mol %", "mole%", "mole %"):
+            if text.endswith(suffix):
+                text = text[: -len(suffix)].strip() + " %"
+                break
+        return to_si(text, "dimensionless")
+    if isinstance(value, (list, tuple)) or (isinstance(value, np.ndarray) and value.dtype == object):
+        return np.array([to_fraction(v) for v in value], dtype=float)
+    return to_si(value, "dimensionless")
+
+
+def concentration_power_value(value: Any, power: float) -> float:
+    """A number in (mol/L)^power from a number (taken in those units already), a string such
+    as ``"0.25 L/mol"`` or a pint quantity; used for concentration-basis equilibrium constants.
+
+    >>> concentration_power_value("0.25 L/mol", -1)
+    0.25
+    >>> round(concentration_power_value("250 mol/m**3", 1), 12)
+    0.25
+    """
+    if isinstance(value, str):
+        try:
+            value = UREG.Quantity(value)
+        except Exception as exc:
+            raise UnitError(f"cannot read {value!r} as a concentration-basis constant: {exc}") from None
+    if isinstance(value, pint.Quantity):
+        target = "dimensionless" if power == 0 else f"(mol/L)**{power:g}"
+        try:
+            return float(value.to(target).magnitude)
+        except pint.DimensionalityError:
+            raise UnitError(f"{value:~} is not in (mol/L)^{power:g}, the unit of this reaction's "
+                            "concentration-basis K (it follows from the change in moles)") from None
+    return float(value)
