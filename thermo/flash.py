@@ -272,9 +272,9 @@ def _stability(params, T, P, z, ln_phi_z, max_iterations=100):
     lnKw = np.log(wilson_k_values(params, T, P))
     best_tm = np.zeros(n)
     best_lnK = lnKw.copy()
-    for sign in (1.0, -1.0):                                   # vapour-like, liquid-like trial
+    for sign in (-1.0, 1.0):                                   # liquid-like, vapour-like trial
         ln_W = np.log(zsafe) + sign * lnKw
-        active = np.ones(n, dtype=bool)
+        active = best_tm >= -1e-10            # one negative distance already proves instability
         tm = np.zeros(n)
         for _ in range(max_iterations):
             rows = np.flatnonzero(active)
@@ -288,7 +288,8 @@ def _stability(params, T, P, z, ln_phi_z, max_iterations=100):
             ln_W[rows] = new
             trivial = np.max(np.where(present[rows], np.abs(w - z[rows]), 0.0), axis=1) < 1e-5
             tm[rows] = 1.0 - np.where(present[rows], np.exp(new), 0.0).sum(axis=1)
-            active[rows[(change < 1e-10) | trivial]] = False
+            # a clearly negative tangent-plane distance already proves instability
+            active[rows[(change < 1e-8) | trivial | (tm[rows] < -1e-3)]] = False
             tm[rows[trivial]] = 0.0
         better = tm < best_tm - 1e-10
         lnK_trial = sign * (ln_W - np.log(zsafe))
@@ -304,8 +305,60 @@ def _lnK_update(params, T, P, z, lnK):
     return lpl - lpv, beta, x, y
 
 
+def _phase_split(params, Tr, Pr, zr, lnK, tolerance, max_iterations):
+    """Successive substitution then Newton on ln K (Michelsen 1982, Part II), rows of states.
+    Returns beta, x, y, K (NaN where not converged), converged, iterations."""
+    lk = lnK.copy()
+    ns = zr.shape[1]
+    its = np.zeros(zr.shape[0], dtype=int)
+    # successive substitution
+    active = np.ones(zr.shape[0], dtype=bool)
+    for it in range(max_iterations):
+        a = np.flatnonzero(active)
+        if a.size == 0:
+            break
+        new, _, _, _ = _lnK_update(params, Tr[a], Pr[a], zr[a], lk[a])
+        change = np.abs(new - lk[a]).max(axis=1)
+        lk[a] = new
+        its[a] += 1
+        done = change < 1e-6
+        active[a[done]] = False
+    # Newton finish on r(lnK) = lnK - update(lnK), finite-difference Jacobian
+    h = 1e-7
+    for it in range(30):
+        upd, bt, xr, yr = _lnK_update(params, Tr, Pr, zr, lk)
+        r = lk - upd
+        err = np.abs(r).max(axis=1)
+        ok = err < tolerance
+        if ok.all():
+            break
+        todo = np.flatnonzero(~ok)
+        m = todo.size
+        Tp = np.repeat(Tr[todo], ns)
+        Pp = np.repeat(Pr[todo], ns)
+        zp = np.repeat(zr[todo], ns, axis=0)
+        lkp = np.repeat(lk[todo], ns, axis=0) + h * np.tile(np.eye(ns), (m, 1))
+        up_p, _, _, _ = _lnK_update(params, Tp, Pp, zp, lkp)
+        rp = (lkp - up_p).reshape(m, ns, ns)                 # [state, perturbed j, i]
+        J = (rp - r[todo][:, None, :]) / h                   # J[s, j, i] = d r_i / d lnK_j
+        J = np.transpose(J, (0, 2, 1))
+        try:
+            step = np.linalg.solve(J, -r[todo][:, :, None])[:, :, 0]
+        except np.linalg.LinAlgError:
+            break
+        step = np.clip(step, -1.0, 1.0)
+        lk[todo] += step
+        its[todo] += 1
+    upd, bt, xr, yr = _lnK_update(params, Tr, Pr, zr, lk)
+    err = np.abs(lk - upd).max(axis=1)
+    trivial = np.abs(lk).max(axis=1) < 1e-4
+    ok = (err < 1e-8) & ~trivial & (bt > 0) & (bt < 1)
+    return (np.where(ok, bt, np.nan), np.where(ok[:, None], xr, np.nan),
+            np.where(ok[:, None], yr, np.nan), np.where(ok[:, None], np.exp(lk), np.nan), ok, its)
+
+
 def flash(params: CubicParameters, T, P, z, *, model: str = "peng-robinson",
-          liquid_vapour_pressure=None, tolerance: float = 1e-10,
+          liquid_vapour_pressure=None, initial_K=None, tolerance: float = 1e-10,
           max_iterations: int = 200) -> FlashResult:
     """Isothermal flash of feeds z at T and P: vapour fraction, x, y, K-values per state.
 
@@ -323,6 +376,10 @@ def flash(params: CubicParameters, T, P, z, *, model: str = "peng-robinson",
         Both phases from the equation of state, or an ideal solution with ideal vapour.
     liquid_vapour_pressure : mapping, optional
         Raoult model: species -> callable P_sat(T [K]) [Pa] from condensed-phase data.
+    initial_K : ndarray (n, ns), optional
+        K-values of a nearby two-phase answer (warm start, e.g. the previous iteration
+        of a recycle loop): the phase split starts from them and the stability test is
+        run only for states where that start does not give two phases.
 
     Returns
     -------
@@ -375,6 +432,30 @@ def flash(params: CubicParameters, T, P, z, *, model: str = "peng-robinson",
         return FlashResult(tuple(params.names), T, P, z, beta, x, y, np.where(single[:, None], 1.0, K),
                            two, np.ones(n, dtype=bool), iterations, tuple(messages), model)
 
+    if initial_K is not None:
+        K0 = np.broadcast_to(np.asarray(initial_K, dtype=float), (n, ns))
+        warm = np.all(np.isfinite(K0) & (K0 > 0), axis=1)
+        if warm.any():
+            first = _phase_split(params, T[warm], P[warm], z[warm], np.log(K0[warm]), tolerance,
+                                 max_iterations)
+            good = first[4]
+            if good.all() and warm.all():
+                bt, xr, yr, Kr, ok, its = first
+                return FlashResult(tuple(params.names), T, P, z, bt, xr, yr, Kr, ok.copy(), ok.copy(), its,
+                                   tuple("two phases" for _ in range(n)), model)
+            cold = flash(params, T, P, z, model=model, tolerance=tolerance, max_iterations=max_iterations)
+            rows = np.flatnonzero(warm)[good]
+            bt, xr, yr, Kr, ok, its = (a[good] for a in first)
+            vf, lq, vp, kv = (np.array(a) for a in (cold.vapour_fraction, cold.liquid, cold.vapour, cold.K_values))
+            vf[rows], lq[rows], vp[rows], kv[rows] = bt, xr, yr, Kr
+            tp, cv, it = np.array(cold.two_phase), np.array(cold.converged), np.array(cold.iterations)
+            tp[rows] = True
+            cv[rows] = True
+            it[rows] = its
+            msgs = list(cold.messages)
+            for r in rows:
+                msgs[r] = "two phases"
+            return FlashResult(tuple(params.names), T, P, z, vf, lq, vp, kv, tp, cv, it, tuple(msgs), model)
     ln_phi_z, vapour_root, vap_state = _stable_root_ln_phi(params, T, P, z)
     unstable, lnK = _stability(params, T, P, z, ln_phi_z)
     beta = np.where(vapour_root, 1.0, 0.0)
@@ -389,55 +470,9 @@ def flash(params: CubicParameters, T, P, z, *, model: str = "peng-robinson",
     converged = np.ones(n, dtype=bool)
     rows = np.flatnonzero(unstable)
     if rows.size:
-        Tr, Pr, zr, lk = T[rows], P[rows], z[rows], lnK[rows]
-        ok = np.zeros(rows.size, dtype=bool)
-        its = np.zeros(rows.size, dtype=int)
-        # successive substitution
-        active = np.ones(rows.size, dtype=bool)
-        for it in range(max_iterations):
-            a = np.flatnonzero(active)
-            if a.size == 0:
-                break
-            new, _, _, _ = _lnK_update(params, Tr[a], Pr[a], zr[a], lk[a])
-            change = np.abs(new - lk[a]).max(axis=1)
-            lk[a] = new
-            its[a] += 1
-            done = change < 1e-6
-            active[a[done]] = False
-        # Newton finish on r(lnK) = lnK - update(lnK), finite-difference Jacobian
-        h = 1e-7
-        for it in range(30):
-            upd, bt, xr, yr = _lnK_update(params, Tr, Pr, zr, lk)
-            r = lk - upd
-            err = np.abs(r).max(axis=1)
-            ok = err < tolerance
-            if ok.all():
-                break
-            todo = np.flatnonzero(~ok)
-            m = todo.size
-            Tp = np.repeat(Tr[todo], ns)
-            Pp = np.repeat(Pr[todo], ns)
-            zp = np.repeat(zr[todo], ns, axis=0)
-            lkp = np.repeat(lk[todo], ns, axis=0) + h * np.tile(np.eye(ns), (m, 1))
-            up_p, _, _, _ = _lnK_update(params, Tp, Pp, zp, lkp)
-            rp = (lkp - up_p).reshape(m, ns, ns)                 # [state, perturbed j, i]
-            J = (rp - r[todo][:, None, :]) / h                   # J[s, j, i] = d r_i / d lnK_j
-            J = np.transpose(J, (0, 2, 1))
-            try:
-                step = np.linalg.solve(J, -r[todo][:, :, None])[:, :, 0]
-            except np.linalg.LinAlgError:
-                break
-            step = np.clip(step, -1.0, 1.0)
-            lk[todo] += step
-            its[todo] += 1
-        upd, bt, xr, yr = _lnK_update(params, Tr, Pr, zr, lk)
-        err = np.abs(lk - upd).max(axis=1)
-        trivial = np.abs(lk).max(axis=1) < 1e-4
-        ok = (err < 1e-8) & ~trivial & (bt > 0) & (bt < 1)
-        beta[rows] = np.where(ok, bt, np.nan)
-        x[rows] = np.where(ok[:, None], xr, np.nan)
-        y[rows] = np.where(ok[:, None], yr, np.nan)
-        K[rows] = np.where(ok[:, None], np.exp(lk), np.nan)
+        bt, xr, yr, Kr, ok, its = _phase_split(params, T[rows], P[rows], z[rows], lnK[rows],
+                                               tolerance, max_iterations)
+        beta[rows], x[rows], y[rows], K[rows] = bt, xr, yr, Kr
         converged[rows] = ok
         iterations[rows] = its
     two = unstable & converged
