@@ -32,7 +32,7 @@ from typing import Sequence
 
 import numpy as np
 
-from .models import P_STANDARD, R
+from .models import P_STANDARD, R, Nasa7Polynomial
 from .peng_robinson import CubicParameters, gas_state
 from .species import Species
 
@@ -56,14 +56,32 @@ class GasProperties:
     def __init__(self, species: Sequence[Species], eos: CubicParameters | None = None):
         self.species = list(species)
         self.eos = eos
+        self._nasa = None
+        models = [sp.model for sp in self.species]
+        if all(isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 3 for m in models):
+            self._nasa = (np.array([m.coefficients[0] for m in models]),
+                          np.array([m.coefficients[1] for m in models]),
+                          np.array([m.T_bounds[1] for m in models]))
         if eos is not None and tuple(eos.names) != tuple(sp.name for sp in self.species):
             raise ValueError("the equation-of-state species must match the species list, in order")
 
     def _ideal(self, T):
-        h = np.stack([np.asarray(sp.model.enthalpy(T), dtype=float) for sp in self.species], axis=-1)
-        s = np.stack([np.asarray(sp.model.entropy(T), dtype=float) for sp in self.species], axis=-1)
-        cp = np.stack([np.asarray(sp.model.heat_capacity(T), dtype=float) for sp in self.species], axis=-1)
-        return h, s, cp
+        """h° [J/mol], s° [J/(mol K)], cp° [J/(mol K)] of every species, (n, ns): the NASA
+        7-coefficient polynomials evaluated together (McBride, Gordon, Reno, NASA TM-4513)."""
+        T = np.asarray(T, dtype=float)
+        if self._nasa is None:
+            h = np.stack([np.asarray(sp.model.enthalpy(T), dtype=float) for sp in self.species], axis=-1)
+            s = np.stack([np.asarray(sp.model.entropy(T), dtype=float) for sp in self.species], axis=-1)
+            cp = np.stack([np.asarray(sp.model.heat_capacity(T), dtype=float) for sp in self.species], axis=-1)
+            return h, s, cp
+        low, high, mid = self._nasa
+        Tc = T[..., None]
+        a = np.where((Tc <= mid)[..., None], low, high)                 # (..., ns, 7)
+        a0, a1, a2, a3, a4, a5, a6 = (a[..., k] for k in range(7))
+        cp_R = a0 + Tc * (a1 + Tc * (a2 + Tc * (a3 + Tc * a4)))
+        h_RT = a0 + Tc * (a1 / 2 + Tc * (a2 / 3 + Tc * (a3 / 4 + Tc * a4 / 5))) + a5 / Tc
+        s_R = a0 * np.log(Tc) + Tc * (a1 + Tc * (a2 / 2 + Tc * (a3 / 3 + Tc * a4 / 4))) + a6
+        return R * Tc * h_RT, R * s_R, R * cp_R
 
     def enthalpy_entropy(self, T, P, y):
         """h [J/mol], s [J/(mol K)] and cp_ideal [J/(mol K)] of the mixture, each (n,).
@@ -82,27 +100,23 @@ class GasProperties:
         return h, s, (y * cp_i).sum(axis=-1)
 
     def temperature_at_entropy(self, s_target, T_guess, P, y, tolerance=1e-10):
-        """T [K] with s(T, P, y) = s_target; Newton with ds/dT from finite differences."""
+        """T [K] with s(T, P, y) = s_target; Newton steps with ds/dT = cp_ideal/T."""
         T = np.array(T_guess, dtype=float)
-        for _ in range(60):
+        for _ in range(100):
             _, s, cp = self.enthalpy_entropy(T, P, y)
-            dT = 1e-4 * T
-            _, s2, _ = self.enthalpy_entropy(T + dT, P, y)
-            slope = (s2 - s) / dT
-            step = (s_target - s) / slope
+            # slope cp_ideal/T: exact for the ideal gas, a close quasi-Newton slope otherwise
+            step = (s_target - s) / (cp / T)
             T = T + np.clip(step, -0.3 * T, 0.5 * T)
             if np.all(np.abs(step) < tolerance * T):
                 return T, True
         return T, bool(np.all(np.abs(step) < 1e-7 * T))
 
     def temperature_at_enthalpy(self, h_target, T_guess, P, y, tolerance=1e-10):
-        """T [K] with h(T, P, y) = h_target; Newton with dh/dT from finite differences."""
+        """T [K] with h(T, P, y) = h_target; Newton steps with dh/dT = cp_ideal."""
         T = np.array(T_guess, dtype=float)
-        for _ in range(60):
-            h, _, _ = self.enthalpy_entropy(T, P, y)
-            dT = 1e-4 * T
-            h2, _, _ = self.enthalpy_entropy(T + dT, P, y)
-            step = (h_target - h) / ((h2 - h) / dT)
+        for _ in range(100):
+            h, _, cp = self.enthalpy_entropy(T, P, y)
+            step = (h_target - h) / cp
             T = T + np.clip(step, -0.3 * T, 0.5 * T)
             if np.all(np.abs(step) < tolerance * T):
                 return T, True

@@ -321,7 +321,8 @@ def _phase_split(params, Tr, Pr, zr, lnK, tolerance, max_iterations):
         change = np.abs(new - lk[a]).max(axis=1)
         lk[a] = new
         its[a] += 1
-        done = change < 1e-6
+        # converged, or slow (near a critical point): the Newton finish takes over
+        done = (change < tolerance) | ((it >= 8) & (change < 1e-4)) | (it >= 60)
         active[a[done]] = False
     # Newton finish on r(lnK) = lnK - update(lnK), finite-difference Jacobian
     h = 1e-7

@@ -54,7 +54,9 @@ functions).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 from importlib import resources
+from types import MappingProxyType
 from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
@@ -759,9 +761,9 @@ class BinaryInteractionTable:
 
     @classmethod
     def bundled(cls) -> "BinaryInteractionTable":
-        """Read ``binary_interaction.yaml`` shipped in :mod:`eqdesign.data`."""
-        text = resources.files("eqdesign.data").joinpath(_INTERACTION_FILE).read_text(encoding="utf-8")
-        return cls.from_text(text, origin=f"eqdesign.data/{_INTERACTION_FILE}")
+        """``binary_interaction.yaml`` shipped in :mod:`eqdesign.data` (parsed once: the
+        table is read-only, and solvers that build a gas model per call reuse it)."""
+        return _bundled_interaction_table()
 
     @classmethod
     def from_text(cls, text: str, origin: str = "<text>") -> "BinaryInteractionTable":
@@ -786,7 +788,7 @@ class BinaryInteractionTable:
                 raise ValueError(f"{where}: pair {first}-{second} is listed twice")
             values[pair] = kij
             sources[pair] = str(references[key])
-        return cls(values, sources, origin)
+        return cls(MappingProxyType(values), MappingProxyType(sources), origin)
 
     def value(self, first: str, second: str) -> float:
         """k_ij [-] of one pair (0 when the table has no entry)."""
@@ -816,6 +818,12 @@ class BinaryInteractionTable:
         return kij
 
 
+@lru_cache(maxsize=1)
+def _bundled_interaction_table() -> BinaryInteractionTable:
+    text = resources.files("eqdesign.data").joinpath(_INTERACTION_FILE).read_text(encoding="utf-8")
+    return BinaryInteractionTable.from_text(text, origin=f"eqdesign.data/{_INTERACTION_FILE}")
+
+
 def binary_interaction_matrix(names: Sequence[str],
                               overrides: Mapping[tuple[str, str], float] | None = None,
                               table: BinaryInteractionTable | None = None) -> np.ndarray:
@@ -828,7 +836,7 @@ def binary_interaction_matrix(names: Sequence[str],
     overrides : mapping (A, B) -> k_ij, optional
         Values that replace the table's (order of A and B does not matter).
     table : BinaryInteractionTable, optional
-        Source of values; default :meth:`BinaryInteractionTable.bundled` (read on each call).
+        Source of values; default :meth:`BinaryInteractionTable.bundled` (parsed once).
 
     Returns
     -------

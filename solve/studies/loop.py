@@ -348,15 +348,19 @@ def synthesis_loop(species: Sequence[str], makeup: Mapping[str, object], pressur
     T_eq = T_out + dT
 
     # ---------------------------------------------------------------- tear-stream iteration
+    warm: dict = {}
     def evaluate(recycle, P_rows, K_start=None):
         """One pass round the loop for rows of recycle guesses (m, ns) at pressures P_rows."""
         m = recycle.shape[0]
         feed = M[None, :] + recycle                                        # (m, ns)
+        start = warm.get(m)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             eq = equilibrium(names, {n: feed[:, j] for j, n in enumerate(names)}, np.full(m, T_eq),
                              P_rows, reactions=list(rxns) or None, gas_model=gas_model, database=db,
-                             binary_interaction=binary_interaction, warn=False)
+                             binary_interaction=binary_interaction, warn=False, initial=start)
+        if eq.all_converged:
+            warm[m] = eq                       # warm start for the next pass of the same size
         out = eq.amount_array.reshape(m, ns)
         total = out.sum(axis=1)
         fl = flash(eos, np.full(m, T_sep), P_rows - dP, out / total[:, None], initial_K=K_start)
