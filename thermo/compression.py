@@ -58,10 +58,11 @@ class GasProperties:
         self.eos = eos
         self._nasa = None
         models = [sp.model for sp in self.species]
-        if all(isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 3 for m in models):
+        if all(isinstance(m, Nasa7Polynomial) and len(m.T_bounds) in (2, 3) for m in models):
+            # one- or two-range polynomials (a single range is its own upper range)
             self._nasa = (np.array([m.coefficients[0] for m in models]),
-                          np.array([m.coefficients[1] for m in models]),
-                          np.array([m.T_bounds[1] for m in models]))
+                          np.array([m.coefficients[-1] for m in models]),
+                          np.array([m.T_bounds[1] if len(m.T_bounds) == 3 else np.inf for m in models]))
         if eos is not None and tuple(eos.names) != tuple(sp.name for sp in self.species):
             raise ValueError("the equation-of-state species must match the species list, in order")
 
@@ -70,10 +71,9 @@ class GasProperties:
         7-coefficient polynomials evaluated together (McBride, Gordon, Reno, NASA TM-4513)."""
         T = np.asarray(T, dtype=float)
         if self._nasa is None:
-            h = np.stack([np.asarray(sp.model.enthalpy(T), dtype=float) for sp in self.species], axis=-1)
-            s = np.stack([np.asarray(sp.model.entropy(T), dtype=float) for sp in self.species], axis=-1)
-            cp = np.stack([np.asarray(sp.model.heat_capacity(T), dtype=float) for sp in self.species], axis=-1)
-            return h, s, cp
+            parts = [sp.model.dimensionless(T) for sp in self.species]        # (cp/R, h/RT, s/R)
+            cp, h, s = (np.stack([np.asarray(p[k], dtype=float) for p in parts], axis=-1) for k in range(3))
+            return R * T[..., None] * h, R * s, R * cp
         low, high, mid = self._nasa
         Tc = T[..., None]
         a = np.where((Tc <= mid)[..., None], low, high)                 # (..., ns, 7)

@@ -197,7 +197,7 @@ def _inert_species(C: np.ndarray, tol: float = 1e-9) -> np.ndarray:
 
 def _enthalpy(records, eos, T, P, flows, root="largest"):
     """Total enthalpy [W] of phase flows (n, ns) at T, P: ideal gas + PR residual (or none)."""
-    h0 = np.stack([np.asarray(sp.model.enthalpy(T), dtype=float) for sp in records], axis=-1)
+    h0 = GasProperties(records)._ideal(np.broadcast_to(np.asarray(T, dtype=float), flows.shape[:-1]))[0]
     total = flows.sum(axis=-1)
     H = (flows * h0).sum(axis=-1)
     if eos is not None:
