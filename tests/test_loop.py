@@ -134,3 +134,23 @@ def test_unknown_makeup_species_is_named():
     with pytest.raises(UnknownSpeciesError, match="NOSUCHGAS"):
         synthesis_loop(["N2", "H2", "NH3"], {"H2": 3.0, "N2": 1.0, "NOSUCHGAS": 0.1}, "200 bar",
                        "450 degC", "-5 degC", purge_fraction=0.02, **COMMON)
+
+
+def test_methanol_loop_finds_nitrogen_and_methane_inert():
+    """Methanol loop with the two named reactions (CO + 2 H2 = CH3OH, CO2 + H2 = CO + H2O),
+    invented make-up, 250 degC outlet, 40 degC separator, 60 / 100 bar: CH4 and N2 are
+    found inert from the conservation matrix (no listed reaction touches them), the crude
+    product is mostly methanol with the water formed, elements balance to 1e-10, and the
+    recycle ratio falls with pressure (common practice, no source)."""
+    species = ["CO", "CO2", "H2", "CH3OH", "H2O", "CH4", "N2"]
+    makeup = {"H2": 700.0, "CO": 200.0, "CO2": 60.0, "CH4": 25.0, "N2": 15.0}
+    study = synthesis_loop(species, makeup, ["60 bar", "100 bar"], "250 degC", "40 degC",
+                           makeup_pressure="25 bar", makeup_temperature="40 degC", inert_limit=0.15,
+                           reactions=["CO + 2 H2 = CH3OH", "CO2 + H2 = CO + H2O"])
+    for r in study.results:
+        assert r.converged, r.message
+        assert r.inerts == ("CH4", "N2")
+        assert r.product_species == "CH3OH" and 0.7 < r.product_purity < 0.95
+        assert r.element_balance_residual < 1e-10
+        assert r.inert_fraction_in_feed == pytest.approx(0.15, abs=1e-8)
+    assert study.results[1].recycle_ratio < study.results[0].recycle_ratio

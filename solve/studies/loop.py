@@ -12,14 +12,21 @@ change, found from the conservation matrix: CH4 and Ar in ammonia synthesis, N2 
 synthesis) stay at the stated mole fraction in the converter feed, or at a stated purge
 fraction. The rest is recompressed to the loop pressure and recycled.
 
-Method. The recycle stream (mol/s of each species) is the tear stream; it is converged by
-bounded Wegstein acceleration of successive substitution (J. H. Wegstein, "Accelerating
-convergence of iterative processes", Commun. ACM 1(6) (1958) 9-13), all pressure options
-at once: each iteration is one vectorised equilibrium call
-(:func:`eqdesign.solve.equilibrium.equilibrium`, Gibbs minimisation; real gas by
-Peng-Robinson) and one vectorised flash (:func:`eqdesign.thermo.flash.flash`, Michelsen
-1982). Converged when the relative change of the recycle is below the tolerance and the
-element balance make-up = purge + product closes to 1e-10 relative.
+Method. The unknowns are the recycle stream (mol/s of each species) and the purge fraction.
+The equations: recycle = (1 - purge fraction) x separator vapour, and either the inert
+fraction of the converter feed at its ceiling (written as a Fischer-Burmeister
+complementarity, so that the purge falls to zero where the inerts dissolved in the product
+already keep them below it; A. Fischer, Optimization 24 (1992) 269-284) or the purge
+fraction at its stated value. They are solved by Newton's method with a forward-difference
+Jacobian, damped to keep flows positive. Each Newton step sends the base state and one
+perturbed copy per unknown, for every pressure option, round the loop together: one
+vectorised equilibrium call (:func:`eqdesign.solve.equilibrium.equilibrium`, Gibbs
+minimisation; real gas by Peng-Robinson) and one vectorised flash
+(:func:`eqdesign.thermo.flash.flash`, Michelsen 1982). Converged when the relative tear
+residual is below the tolerance and the element balance make-up = purge + product closes
+to 1e-10 relative; otherwise the option is flagged, its numbers NaN, and the message says
+what failed. (Successive substitution accelerated by Wegstein's method, J. H. Wegstein,
+Commun. ACM 1(6) (1958) 9, was tried first and stalled on the purge rule.)
 
 These are model results for comparing options. Synthesis loops run at 100-300 bar with
 flammable hydrogen and toxic ammonia or methanol: design, relief, and operation follow local
@@ -53,8 +60,6 @@ LOOP_CAUTION = (
     "wide range and leaks readily; ammonia is toxic (and methanol toxic and flammable). "
     "Design, relief, and operation follow local codes and licensed engineering practice.")
 
-_WEGSTEIN_BOUNDS = (-5.0, 0.0)
-_TRACE = False
 
 
 class LoopInputError(ValueError):
@@ -428,8 +433,6 @@ def synthesis_loop(species: Sequence[str], makeup: Mapping[str, object], pressur
         r0 = r_all[:m]
         err = np.abs(r0[:, :ns]).sum(axis=1) / scale_flow + np.abs(r0[:, ns])
         change[rows] = err
-        if _TRACE:
-            print(used, err, us[:, :ns].sum(axis=1), us[:, ns])
         fine = err < tolerance
         J = np.transpose((r_all[m:].reshape(m, nu, nu) - r0[:, None, :]) / h[:, :, None], (0, 2, 1))
         bad = ~(np.all(np.isfinite(J), axis=(1, 2)) & np.all(np.isfinite(r0), axis=1))
