@@ -14,7 +14,8 @@ from scipy.optimize import brentq
 
 from eqdesign.thermo import bundled_database
 from eqdesign.thermo.flash import (
-    condensed_vapour_pressure, flash, rachford_rice, saturation_pressure,
+    condensed_vapour_pressure, flash, liquid_data_vapour_pressures, rachford_rice,
+    saturation_pressure,
 )
 from eqdesign.thermo.peng_robinson import CubicParameters, binary_interaction_matrix, gas_state
 
@@ -108,6 +109,8 @@ def test_raoult_limit_when_the_equation_of_state_is_off(database):
     names = ["N2", "H2O"]
     params = _params(database, names)
     p_sat_water = condensed_vapour_pressure(database["H2O"], database["H2O(l)"])
+    found = liquid_data_vapour_pressures(database, names)
+    assert list(found) == ["H2O"] and float(found["H2O"](313.15)) == float(p_sat_water(313.15))
     assert float(p_sat_water(313.15)) == pytest.approx(7.38e3, rel=0.02)
     z = [0.8, 0.2]
     ideal = flash(params, 313.15, 1e5, z, model="raoult", liquid_vapour_pressure={"H2O": p_sat_water})

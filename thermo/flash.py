@@ -38,7 +38,8 @@ from .models import P_STANDARD, R
 from .peng_robinson import CubicParameters, gas_state
 
 __all__ = ["FlashResult", "flash", "rachford_rice", "saturation_pressure", "wilson_k_values",
-           "raoult_k_values", "FLASH_MODELS"]
+           "raoult_k_values", "condensed_vapour_pressure", "liquid_data_vapour_pressures",
+           "FLASH_MODELS"]
 
 FLASH_MODELS = ("peng-robinson", "raoult")
 
@@ -260,6 +261,25 @@ def condensed_vapour_pressure(gas_record, liquid_record):
         T = np.asarray(T, dtype=float)
         return P_STANDARD * np.exp(liquid_record.model.gibbs_RT(T) - gas_record.model.gibbs_RT(T))
     return p_sat
+
+
+def liquid_data_vapour_pressures(database, names):
+    """Vapour-pressure functions from the database's own liquid records.
+
+    For each name with a liquid record called ``"<name>(l)"`` (e.g. ``"H2O(l)"``), maps
+    the name to :func:`condensed_vapour_pressure` of the pair; names without one are left
+    out (the Raoult model then uses the Peng-Robinson saturation pressure).
+
+    >>> from eqdesign.thermo import bundled_database
+    >>> sorted(liquid_data_vapour_pressures(bundled_database(), ["NH3", "H2O"]))
+    ['H2O']
+    """
+    out = {}
+    for name in names:
+        liquid = f"{name}(l)"
+        if liquid in database.species and not database.species[liquid].is_gas:
+            out[name] = condensed_vapour_pressure(database[name], database.species[liquid])
+    return out
 
 
 # --------------------------------------------------------------------------- flash
