@@ -111,18 +111,37 @@ def test_named_reaction_mode_matches_cantera(db):
     assert abs(float(out.T) - gas.T) < 0.01
 
 
-def _cantera_peng_robinson(db, names):
+def _cantera_peng_robinson(db, names, quantum_T=None):
+    """cantera Peng-Robinson phase with our NASA data.  With ``quantum_T`` [K], H2 takes the
+    effective critical constants of Gunn, Chueh, Prausnitz, AIChE J. 12 (1966) 937 at that
+    one temperature (Tc = 43.6 K/(1 + 21.8 K/(M T)), Pc = 20.5 atm/(1 + 44.2 K/(M T)),
+    acentric factor 0; from memory) and cross terms a_ij = -sqrt(a_c,H2 a_c,j): eqdesign keeps
+    sqrt(a_i) signed and H2's alpha root is negative above about 580 K."""
     import cantera as ct
+    R = 8.314462618
+    omega_a, omega_b = 0.45723552892, 0.0777960739
     species = []
     for n in names:
         sp = db[n]
         c = sp.critical
-        species.append({
+        entry = {
             "name": n, "composition": {k: float(v) for k, v in sp.elements.items()},
             "thermo": {"model": "NASA7", "temperature-ranges": list(sp.model.T_bounds),
                        "data": sp.model.coefficients.tolist(), "reference-pressure": 1e5},
             "critical-parameters": {"critical-temperature": c.Tc, "critical-pressure": c.Pc,
-                                    "acentric-factor": c.omega}})
+                                    "acentric-factor": c.omega}}
+        if n == "H2" and quantum_T is not None:
+            Tc = 43.6 / (1.0 + 21.8 / (2.016 * quantum_T))
+            Pc = 20.5 * 101325.0 / (1.0 + 44.2 / (2.016 * quantum_T))
+            a_c = omega_a * (R * Tc) ** 2 / Pc
+            assert 1.0 + 0.37464 * (1.0 - np.sqrt(quantum_T / Tc)) < 0.0
+            del entry["critical-parameters"]
+            entry["equation-of-state"] = {
+                "model": "Peng-Robinson", "a": f"{a_c * 1e6!r} Pa*m^6/kmol^2",
+                "b": f"{omega_b * R * Tc / Pc * 1e3!r} m^3/kmol", "acentric-factor": 0.0,
+                "binary-a": {m: f"{-float(np.sqrt(a_c * omega_a * (R * db[m].critical.Tc) ** 2 / db[m].critical.Pc)) * 1e6!r} Pa*m^6/kmol^2"
+                             for m in names if m != n}}
+        species.append(entry)
     doc = {"phases": [{"name": "gas", "thermo": "Peng-Robinson", "species": list(names),
                        "state": {"T": 700.0, "P": 1e7}}], "species": species}
     return ct.Solution(yaml=yaml.safe_dump(doc))
@@ -131,13 +150,17 @@ def _cantera_peng_robinson(db, names):
 def test_peng_robinson_adiabatic_temperature_matches_cantera(db):
     """Ammonia synthesis at 400 degC, 200 and 300 bar with the Peng-Robinson gas: the
     adiabatic temperature agrees with cantera's Peng-Robinson phase equilibrated at
-    constant H and P to 0.01 K (bundled k_ij of N2-H2-NH3 are zero, acentric factors
-    below 0.491, so both use the same a, b and kappa).
+    constant H and P to 0.1 K (bundled k_ij of N2-H2-NH3 are zero, acentric factors
+    below 0.491, so both use the same a, b and kappa).  eqdesign gives H2 the effective
+    critical constants of Gunn, Chueh and Prausnitz (1966), which vary with temperature;
+    cantera holds them at the inlet temperature.  Measured: 845.70 / 872.04 K against
+    cantera's 845.67 / 872.00 K (constants at 845.7 K in cantera: 845.66 / 871.98 K).
+    Before the effective constants both gave 847.5 / 874.7 K to 0.01 K.
 
     Source: cantera (reference library), PengRobinsonPhase with our NASA data.
     """
     names = ["N2", "H2", "NH3"]
-    gas = _cantera_peng_robinson(db, names)
+    gas = _cantera_peng_robinson(db, names, quantum_T=673.15)
     P = np.array([200e5, 300e5])
     out = adiabatic_equilibrium(names, {"N2": 1.0, "H2": 3.0}, 673.15, P, gas_model="peng-robinson")
     assert out.all_converged
@@ -145,7 +168,7 @@ def test_peng_robinson_adiabatic_temperature_matches_cantera(db):
     for k, p in enumerate(P):
         gas.TPX = 673.15, p, {"N2": 1.0, "H2": 3.0}
         gas.equilibrate("HP")
-        assert abs(out.T[k] - gas.T) < 0.01
+        assert abs(out.T[k] - gas.T) < 0.1
         assert abs(ideal.T[k] - gas.T) > 1.0          # the real-gas correction matters here
 
 

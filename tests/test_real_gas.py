@@ -70,7 +70,8 @@ def _ammonia_percent(T_celsius, gas_model, pressures_atm=LARSON_DODGE_PRESSURE_A
 def test_ammonia_at_300_atm_peng_robinson_beats_ideal_gas_against_larson(T_celsius):
     """NH3 at 300 atm from a 3:1 H2:N2 feed against A. T. Larson, J. Am. Chem. Soc. 46
     (1924) 367 (values from memory): the Peng-Robinson answer lies within 5 % (relative) of
-    the measurement and closer to it than the ideal-gas answer.
+    the measurement at 400 and 450 degC, 6 % at 500 degC, and closer to it than the
+    ideal-gas answer.
 
     Side by side at 450 degC (NH3 mole percent; eqdesign with the bundled NASA TM-4513
     data and critical constants, at the time of writing):
@@ -79,22 +80,43 @@ def test_ammonia_at_300_atm_peng_robinson_beats_ideal_gas_against_larson(T_celsi
     P [atm]   ideal gas  Peng-Robinson   measured (Larson and Dodge 1923,
                                          Larson 1924; from memory)
     ========  =========  ==============  ====================================
-    100       16.19      16.88           16.36
-    300       31.99      35.44           35.5
-    600       43.76      51.38           53.6
+    100       16.19      16.71           16.36
+    300       31.99      35.37           35.5
+    600       43.76      52.34           53.6
     ========  =========  ==============  ====================================
 
-    At 300 atm the same comparison reads 43.03 / 48.03 / 47.00 at 400 degC and
-    23.09 / 25.37 / 26.44 at 500 degC.  Above 300 atm the Peng-Robinson answer still
-    falls short of the measurements (1000 atm, 450 degC: 63.97 against 69.4), as expected
-    of a cubic equation with k_ij = 0 this far above the critical pressures.
+    At 300 atm the same comparison reads 43.03 / 48.58 / 47.00 at 400 degC and
+    23.09 / 25.00 / 26.44 at 500 degC.  Above 300 atm the Peng-Robinson answer still
+    falls short of the measurements (1000 atm, 450 degC: 66.31 against 69.4).
+
+    Hydrogen takes the effective critical constants of Gunn, Chueh and Prausnitz, AIChE J.
+    12 (1966) 937 (see ``quantum_critical_constants``).  With hydrogen's classical
+    constants the Peng-Robinson column read 16.88 / 35.44 / 51.38 (and 63.97 at 1000 atm;
+    48.03 at 400 degC and 25.37 at 500 degC, 300 atm): the effective constants bring 100,
+    600 and 1000 atm closer to the measurements, move 300 atm by less than 0.1 mol %, and
+    take 500 degC, 300 atm from 4.0 % to 5.4 % below the measurement, hence the 6 %
+    bound there.
     """
     k = LARSON_DODGE_PRESSURE_ATM.index(300.0)
     measured = LARSON_DODGE_NH3_PERCENT[T_celsius][k]
     ideal = _ammonia_percent(T_celsius, "ideal", [300.0])[0]
     real = _ammonia_percent(T_celsius, "peng-robinson", [300.0])[0]
     assert abs(real - measured) < abs(ideal - measured)
-    assert real == pytest.approx(measured, rel=0.05)
+    assert real == pytest.approx(measured, rel=0.06 if T_celsius == 500.0 else 0.05)
+
+
+def test_ammonia_at_450_C_up_to_1000_atm_against_larson():
+    """NH3 mole percent from a 3:1 H2:N2 feed at 450 degC, Peng-Robinson with hydrogen's
+    effective critical constants (Gunn, Chueh, Prausnitz, AIChE J. 12 (1966) 937), against
+    Larson and Dodge, J. Am. Chem. Soc. 45 (1923) 2918 and Larson, J. Am. Chem. Soc. 46
+    (1924) 367 (from memory): 35.5 at 300 atm, 53.6 at 600 atm, 69.4 at 1000 atm; within
+    3 % (relative) at 300 and 600 atm and 5 % at 1000 atm.  Measured here: 35.37, 52.34,
+    66.31 (-0.4 %, -2.4 %, -4.5 %); with hydrogen's classical constants 35.44, 51.38, 63.97
+    (-4.1 % at 600 atm, -7.8 % at 1000 atm)."""
+    real = _ammonia_percent(450.0, "peng-robinson", [300.0, 600.0, 1000.0])
+    assert real[0] == pytest.approx(35.5, rel=0.03)
+    assert real[1] == pytest.approx(53.6, rel=0.03)
+    assert real[2] == pytest.approx(69.4, rel=0.05)
 
 
 def test_ammonia_side_by_side_table_at_450_C(record_property, capsys):
@@ -116,30 +138,56 @@ def test_ammonia_side_by_side_table_at_450_C(record_property, capsys):
         print("\n[NH3 from 3:1 H2:N2 at 450 degC]\n" + table)
     assert np.all(real > ideal)
     assert np.all(np.diff(real - ideal) > 0)
-    for p, a, b in ((100.0, 16.19, 16.88), (300.0, 31.99, 35.44), (600.0, 43.76, 51.38)):
+    for p, a, b in ((100.0, 16.19, 16.71), (300.0, 31.99, 35.37), (600.0, 43.76, 52.34)):
         k = LARSON_DODGE_PRESSURE_ATM.index(p)
         assert (ideal[k], real[k]) == pytest.approx((a, b), abs=0.006)   # the docstring table
 
 
 # --------------------------------------------------------------------------- K_phi, Q/K
-def _cantera_pr_ln_phi(db, names):
+def _cantera_pr_ln_phi(db, names, T_quantum=None):
     """ln φ(T [K], P [Pa], y) from cantera's Peng-Robinson phase with the same critical
     constants (k_ij = 0, as bundled for N2-H2-NH3; every acentric factor below 0.491, where
-    cantera's kappa polynomial equals the 1976 one)."""
+    cantera's kappa polynomial equals the 1976 one).  With ``T_quantum`` [K], H2 takes the
+    effective constants of Gunn, Chueh, Prausnitz, AIChE J. 12 (1966) 937 at that
+    temperature (Tc = 43.6 K/(1 + 21.8 K/(M T)), Pc = 20.5 atm/(1 + 44.2 K/(M T)),
+    M = 2.016 g/mol, acentric factor 0; from memory), typed in here independently."""
     import cantera as ct
     elements = sorted({e for n in names for e in db[n].elements})
     species = []
     for n in names:
         sp, c = db[n], db[n].critical
         assert c.omega <= 0.491
+        Tc, Pc, omega = c.Tc, c.Pc, c.omega
+        if n == "H2" and T_quantum is not None:
+            Tc = 43.6 / (1.0 + 21.8 / (2.016 * T_quantum))
+            Pc = 20.5 * ATM / (1.0 + 44.2 / (2.016 * T_quantum))
+            omega = 0.0
         comp = ", ".join(f"{e}: {v:g}" for e, v in sp.elements.items())
+        eos = (f"critical-parameters: {{critical-temperature: {Tc!r}, critical-pressure: {Pc!r}, "
+               f"acentric-factor: {omega!r}}}")
+        if n == "H2" and T_quantum is not None:
+            # eqdesign keeps sqrt(a_i) = sqrt(a_c,i) (1 + kappa (1 - sqrt(T/Tc))) signed; above
+            # T = 13.5 Tc that root is negative for H2, so the cross terms a_ij change sign.
+            # cantera squares the root; its per-pair a_ij (binary-a) restores the sign.
+            kappa = 0.37464
+            root = 1.0 + kappa * (1.0 - np.sqrt(T_quantum / Tc))
+            a_c = 0.45723552892 * (8.314462618 * Tc) ** 2 / Pc
+            b = 0.0777960739 * 8.314462618 * Tc / Pc
+            cross = []
+            for m in names:
+                if m != n:
+                    cm = db[m].critical
+                    a_cm = 0.45723552892 * (8.314462618 * cm.Tc) ** 2 / cm.Pc
+                    a_ij = float(np.sign(root) * np.sqrt(a_c * a_cm)) * 1e6      # Pa m^6/kmol^2
+                    cross.append(f"{m}: {a_ij!r} Pa*m^6/kmol^2")
+            eos = (f"equation-of-state: {{model: Peng-Robinson, a: {a_c * 1e6!r} Pa*m^6/kmol^2, "
+                   f"b: {b * 1e3!r} m^3/kmol, acentric-factor: {omega!r}, "
+                   f"binary-a: {{{', '.join(cross)}}}}}")
         species.append(textwrap.dedent(f"""\
             - name: {n}
               composition: {{{comp}}}
               thermo: {{model: constant-cp, T0: 298.15 K, h0: 0 J/mol, s0: 150 J/mol/K, cp0: 30 J/mol/K}}
-              critical-parameters: {{critical-temperature: {c.Tc!r}, critical-pressure: {c.Pc!r},
-                                     acentric-factor: {c.omega!r}}}
-            """))
+            """) + f"  {eos}\n")
     text = textwrap.dedent(f"""\
         phases:
         - name: gas
@@ -162,7 +210,8 @@ def test_K_phi_and_quotient_for_ammonia_synthesis_against_cantera_peng_robinson(
     """Named reaction N2 + 3 H2 = 2 NH3, Peng-Robinson, 400-500 degC, 100-1000 atm:
 
     * ``K_phi()`` equals exp(Σ ν ln φ) with ln φ from cantera's Peng-Robinson phase at our
-      composition (independent implementation), to 1e-9 relative, and exactly the ln φ the
+      composition (independent implementation; H2 with its effective critical constants at
+      each temperature, typed into cantera), to 1e-9 relative, and exactly the ln φ the
       result carries;
     * ``quotient_over_K()`` = 1 to 1e-9 with real-gas activities φ y P/P°;
     * the NH3 fraction equals the root of K = K_φ K_y (P/P°)^Δν solved with
@@ -176,7 +225,10 @@ def test_K_phi_and_quotient_for_ammonia_synthesis_against_cantera_peng_robinson(
     assert real.all_converged and ideal.all_converged
     nu = np.array([-1.0, -3.0, 2.0])                       # N2, H2, NH3
     idx = [real.species.index(n) for n in AMMONIA]
-    ln_phi_ct = _cantera_pr_ln_phi(db, AMMONIA)
+    ln_phi_at = {float(t): _cantera_pr_ln_phi(db, AMMONIA, T_quantum=float(t)) for t in np.unique(T)}
+
+    def ln_phi_ct(T, P, y):
+        return ln_phi_at[float(T)](T, P, y)
     reaction = Reaction.parse(SYNTHESIS)
     K_phi = real.K_phi()[SYNTHESIS]
     assert np.allclose(K_phi, np.exp((real.ln_phi_array[:, idx] * nu).sum(axis=1)), rtol=1e-12)
@@ -203,7 +255,8 @@ def test_K_phi_and_quotient_for_ammonia_synthesis_against_cantera_peng_robinson(
 def _ln_phi_eqdesign(db, res, names):
     """ln φ recomputed with eqdesign.thermo.peng_robinson at the result's composition."""
     params = CubicParameters.from_species([db[n] for n in names],
-                                          interaction=binary_interaction_matrix(names))
+                                          interaction=binary_interaction_matrix(names),
+                                          quantum_gases=True)
     y = np.stack([res.mole_fractions[n] for n in names], axis=-1).reshape(-1, len(names))
     return log_fugacity_coefficients(params, np.ravel(res.T), np.ravel(res.P), y)
 

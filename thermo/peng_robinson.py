@@ -54,7 +54,9 @@ functions).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 from importlib import resources
+from types import MappingProxyType
 from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
@@ -73,6 +75,8 @@ __all__ = [
     "binary_interaction_matrix",
     "OMEGA_A",
     "OMEGA_B",
+    "QUANTUM_GASES",
+    "quantum_critical_constants",
 ]
 
 _SQRT2 = np.sqrt(2.0)
@@ -113,6 +117,60 @@ def _kappa(omega: np.ndarray) -> np.ndarray:
     return np.where(w > _KAPPA_SWITCH, form_1978, form_1976)
 
 
+# --------------------------------------------------------------------------- quantum gases
+#: Classical critical constants of the quantum gases for the effective-constant rule of
+#: R. D. Gunn, P. L. Chueh, J. M. Prausnitz, "Prediction of thermodynamic properties of
+#: dense gas mixtures containing one or more of the quantum gases", AIChE J. 12 (1966)
+#: 937-941: name -> (Tc0 [K], Pc0 [Pa], molar mass [g/mol]). Values (from memory) as
+#: commonly quoted: H2 43.6 K, 20.5 atm; He 10.47 K, 6.67 atm; Ne 45.5 K, 26.9 atm.
+QUANTUM_GASES = {
+    "H2": (43.6, 20.5 * 101325.0, 2.016),
+    "He": (10.47, 6.67 * 101325.0, 4.0026),
+    "Ne": (45.5, 26.9 * 101325.0, 20.180),
+}
+#: Constants of the rule [K] (Gunn, Chueh, Prausnitz 1966; from memory).
+_QUANTUM_TC_SCALE = 21.8
+_QUANTUM_PC_SCALE = 44.2
+
+
+def quantum_critical_constants(name: str, T):
+    """Effective (temperature-dependent) critical constants of a quantum gas.
+
+    Tc(T) = Tc0 / (1 + 21.8 K / (M T)),  Pc(T) = Pc0 / (1 + 44.2 K / (M T)),
+    with M the molar mass [g/mol] and the acentric factor taken as 0.
+
+    Parameters
+    ----------
+    name : {"H2", "He", "Ne"}
+        Species name (a key of :data:`QUANTUM_GASES`).
+    T : float | ndarray
+        Temperature [K].
+
+    Returns
+    -------
+    (Tc, Pc) : tuple of float | ndarray
+        Effective critical temperature [K] and pressure [Pa] at T.
+
+    Source: R. D. Gunn, P. L. Chueh, J. M. Prausnitz, AIChE J. 12 (1966) 937-941
+    (constants from memory). Quantum effects shrink the effective molecular size of the
+    light gases at low temperature; the rule restores corresponding-states behaviour
+    for cubic equations of state in dense mixtures (ammonia synthesis at 300-1000 atm).
+
+    Example: hydrogen at 450 degC.
+
+    >>> Tc, Pc = quantum_critical_constants("H2", 723.15)
+    >>> print(f"{Tc:.2f} K, {Pc / 1e5:.2f} bar")
+    42.96 K, 20.16 bar
+    """
+    if name not in QUANTUM_GASES:
+        raise ValueError(f"{name!r} is not a quantum gas; known: {', '.join(QUANTUM_GASES)}")
+    Tc0, Pc0, M = QUANTUM_GASES[name]
+    T = np.asarray(T, dtype=float)
+    Tc = Tc0 / (1.0 + _QUANTUM_TC_SCALE / (M * T))
+    Pc = Pc0 / (1.0 + _QUANTUM_PC_SCALE / (M * T))
+    return (float(Tc), float(Pc)) if T.ndim == 0 else (Tc, Pc)
+
+
 # --------------------------------------------------------------------------- parameters
 _MISSING_MESSAGE = (
     "Peng-Robinson needs the critical temperature, critical pressure and acentric factor "
@@ -143,6 +201,11 @@ class CubicParameters:
     interaction : array_like (ns, ns), optional
         Binary interaction parameters k_ij [-]; symmetric, zero diagonal. Default zeros.
         See :func:`binary_interaction_matrix` for published values.
+    quantum_gases : bool
+        True: species named in :data:`QUANTUM_GASES` (H2, He, Ne) use the temperature-
+        dependent effective critical constants of Gunn, Chueh and Prausnitz (1966) with
+        acentric factor 0 (see :func:`quantum_critical_constants`) instead of the given
+        ones. Default False: plain Peng-Robinson with the given constants.
 
     Raises
     ------
@@ -169,6 +232,7 @@ class CubicParameters:
     critical_pressure: np.ndarray
     acentric_factor: np.ndarray
     interaction: np.ndarray | None = None
+    quantum_gases: bool = False
     covolume: np.ndarray = field(init=False, repr=False)
     critical_attraction: np.ndarray = field(init=False, repr=False)
     alpha_slope: np.ndarray = field(init=False, repr=False)
@@ -227,6 +291,13 @@ class CubicParameters:
         setattr_(self, "covolume", _read_only(OMEGA_B * R * Tc / Pc))
         setattr_(self, "critical_attraction", _read_only(OMEGA_A * (R * Tc) ** 2 / Pc))
         setattr_(self, "alpha_slope", _read_only(_kappa(columns["acentric_factor"])))
+        setattr_(self, "quantum_gases", bool(self.quantum_gases))
+        mask = np.array([self.quantum_gases and name in QUANTUM_GASES for name in names])
+        setattr_(self, "_quantum_mask", mask)
+        if mask.any():
+            kappa = np.array(self.alpha_slope)
+            kappa[mask] = _kappa(0.0)
+            setattr_(self, "_quantum_kappa", _read_only(kappa))
 
     @property
     def species_count(self) -> int:
@@ -234,7 +305,8 @@ class CubicParameters:
         return len(self.names)
 
     @classmethod
-    def from_species(cls, records: Iterable[Any], interaction=None) -> "CubicParameters":
+    def from_species(cls, records: Iterable[Any], interaction=None,
+                     quantum_gases: bool = False) -> "CubicParameters":
         """Build from species records that carry ``name`` and ``critical`` (Tc [K], Pc [Pa], omega [-]).
 
         ``critical`` is an object with attributes ``Tc``, ``Pc``, ``omega`` (as
@@ -259,11 +331,11 @@ class CubicParameters:
             Tc.append(None if crit is None else crit.Tc)
             Pc.append(None if crit is None else crit.Pc)
             omega.append(None if crit is None else crit.omega)
-        return cls(names, Tc, Pc, omega, interaction)
+        return cls(names, Tc, Pc, omega, interaction, quantum_gases)
 
     @classmethod
     def from_table(cls, names: Sequence[str], table: Mapping[str, Sequence[float]],
-                   interaction=None) -> "CubicParameters":
+                   interaction=None, quantum_gases: bool = False) -> "CubicParameters":
         """Build from a mapping ``name -> (Tc [K], Pc [Pa], omega [-])``.
 
         Names absent from ``table`` (or mapped to ``None``) raise the ValueError that names them.
@@ -279,7 +351,7 @@ class CubicParameters:
         Tc = [None if row is None else row[0] for row in rows]
         Pc = [None if row is None else row[1] for row in rows]
         omega = [None if row is None else row[2] for row in rows]
-        return cls(list(names), Tc, Pc, omega, interaction)
+        return cls(list(names), Tc, Pc, omega, interaction, quantum_gases)
 
 
 # --------------------------------------------------------------------------- cubic solver
@@ -417,23 +489,57 @@ class GasState:
 _ROOTS = ("largest", "smallest")
 
 
+def _critical_constants_at(params: CubicParameters, T: np.ndarray):
+    """Tc, Pc [K, Pa] (n, ns) at temperatures T (n,), with d ln Tc/dT and d ln Pc/dT [1/K]:
+    the given constants, or the Gunn-Chueh-Prausnitz effective ones for quantum gases."""
+    n, ns = T.size, params.species_count
+    Tc = np.broadcast_to(params.critical_temperature, (n, ns)).copy()
+    Pc = np.broadcast_to(params.critical_pressure, (n, ns)).copy()
+    dlnTc = np.zeros((n, ns))
+    dlnPc = np.zeros((n, ns))
+    for k in np.flatnonzero(params._quantum_mask):
+        Tc0, Pc0, M = QUANTUM_GASES[params.names[k]]
+        u = _QUANTUM_TC_SCALE / (M * T)
+        w = _QUANTUM_PC_SCALE / (M * T)
+        Tc[:, k] = Tc0 / (1.0 + u)
+        Pc[:, k] = Pc0 / (1.0 + w)
+        dlnTc[:, k] = u / (T * (1.0 + u))
+        dlnPc[:, k] = w / (T * (1.0 + w))
+    return Tc, Pc, dlnTc, dlnPc
+
+
 def _evaluate(params: CubicParameters, T, P, y, root: str) -> GasState:
     if root not in _ROOTS:
         raise ValueError(f"root must be one of {_ROOTS}; got {root!r}")
     T, P, y, shape = _prepare_states(params, T, P, y)
     RT = R * T
-    sqrt_Tr = np.sqrt(T[:, None] / params.critical_temperature)               # (n, ns)
-    sqrt_ac = np.sqrt(params.critical_attraction)                             # (ns,)
-    kappa = params.alpha_slope
-    sqrt_a = sqrt_ac * (1.0 + kappa * (1.0 - sqrt_Tr))                        # sqrt(a_i) (n, ns)
-    dsqrt_a_dT = -sqrt_ac * kappa * sqrt_Tr / (2.0 * T[:, None])              # d sqrt(a_i)/dT
+    quantum = params._quantum_mask.any()
+    if quantum:
+        Tc_i, Pc_i, dlnTc, dlnPc = _critical_constants_at(params, T)        # (n, ns) each
+        sqrt_Tr = np.sqrt(T[:, None] / Tc_i)
+        sqrt_ac = np.sqrt(OMEGA_A) * R * Tc_i / np.sqrt(Pc_i)
+        kappa = params._quantum_kappa
+        sqrt_a = sqrt_ac * (1.0 + kappa * (1.0 - sqrt_Tr))
+        dsqrt_a_dT = (sqrt_ac * (dlnTc - 0.5 * dlnPc) * (1.0 + kappa * (1.0 - sqrt_Tr))
+                      - sqrt_ac * kappa * sqrt_Tr * (1.0 / T[:, None] - dlnTc) / 2.0)
+    else:
+        sqrt_Tr = np.sqrt(T[:, None] / params.critical_temperature)               # (n, ns)
+        sqrt_ac = np.sqrt(params.critical_attraction)                             # (ns,)
+        kappa = params.alpha_slope
+        sqrt_a = sqrt_ac * (1.0 + kappa * (1.0 - sqrt_Tr))                        # sqrt(a_i) (n, ns)
+        dsqrt_a_dT = -sqrt_ac * kappa * sqrt_Tr / (2.0 * T[:, None])              # d sqrt(a_i)/dT
     weighted = y * sqrt_a                                                     # y_i sqrt(a_i)
     # cross sums: cross_i = sum_j (1 - k_ij) y_j sqrt(a_j); sum_j y_j a_ij = sqrt(a_i) cross_i
     cross = weighted @ (1.0 - params.interaction)
     a_mix = np.einsum("ij,ij->i", weighted, cross)
     da_mix_dT = 2.0 * np.einsum("ij,ij->i", y * dsqrt_a_dT, cross)
-    b = params.covolume
-    b_mix = y @ b
+    if quantum:
+        b = OMEGA_B * R * Tc_i / Pc_i                                           # (n, ns)
+        b_mix = np.einsum("ij,ij->i", y, b)
+        db_mix_dT = np.einsum("ij,ij->i", y, b * (dlnTc - dlnPc))
+    else:
+        b = params.covolume
+        b_mix = y @ b
     A = a_mix * P / RT**2
     B = b_mix * P / RT
 
@@ -449,6 +555,12 @@ def _evaluate(params: CubicParameters, T, P, y, root: str) -> GasState:
     ln_phi = (b_ratio * (Z - 1.0)[:, None] - log_free[:, None]
               - attraction_scale[:, None] * (2.0 * sqrt_a * cross - a_mix[:, None] * b_ratio))
     h_res = RT * (Z - 1.0) + (T * da_mix_dT - a_mix) * log_ratio / (2.0 * _SQRT2 * b_mix)
+    if quantum:
+        # covolume varying with T: U_res = -T^2 d(A_res/T)/dT at fixed v gains
+        # (T b'/b) [-R T B/(Z - B) - a L/(2 sqrt2 b) + R T A Z/(Z^2 + 2 B Z - B^2)]
+        h_res = h_res + (T * db_mix_dT / b_mix) * (
+            -RT * B / (Z - B) - a_mix * log_ratio / (2.0 * _SQRT2 * b_mix)
+            + RT * A * Z / (Z * Z + 2.0 * B * Z - B * B))
     g_res = RT * g_res_RT
     s_res = (h_res - g_res) / T
 
@@ -648,9 +760,9 @@ class BinaryInteractionTable:
 
     @classmethod
     def bundled(cls) -> "BinaryInteractionTable":
-        """Read ``binary_interaction.yaml`` shipped in :mod:`eqdesign.data`."""
-        text = resources.files("eqdesign.data").joinpath(_INTERACTION_FILE).read_text(encoding="utf-8")
-        return cls.from_text(text, origin=f"eqdesign.data/{_INTERACTION_FILE}")
+        """``binary_interaction.yaml`` shipped in :mod:`eqdesign.data` (parsed once: the
+        table is read-only, and solvers that build a gas model per call reuse it)."""
+        return _bundled_interaction_table()
 
     @classmethod
     def from_text(cls, text: str, origin: str = "<text>") -> "BinaryInteractionTable":
@@ -676,7 +788,7 @@ class BinaryInteractionTable:
                 raise ValueError(f"{where}: pair {first}-{second} is listed twice")
             values[pair] = kij
             sources[pair] = str(references[key])
-        return cls(values, sources, origin)
+        return cls(MappingProxyType(values), MappingProxyType(sources), origin)
 
     def value(self, first: str, second: str) -> float:
         """k_ij [-] of one pair (0 when the table has no entry)."""
@@ -706,6 +818,12 @@ class BinaryInteractionTable:
         return kij
 
 
+@lru_cache(maxsize=1)
+def _bundled_interaction_table() -> BinaryInteractionTable:
+    text = resources.files("eqdesign.data").joinpath(_INTERACTION_FILE).read_text(encoding="utf-8")
+    return BinaryInteractionTable.from_text(text, origin=f"eqdesign.data/{_INTERACTION_FILE}")
+
+
 def binary_interaction_matrix(names: Sequence[str],
                               overrides: Mapping[tuple[str, str], float] | None = None,
                               table: BinaryInteractionTable | None = None) -> np.ndarray:
@@ -718,7 +836,7 @@ def binary_interaction_matrix(names: Sequence[str],
     overrides : mapping (A, B) -> k_ij, optional
         Values that replace the table's (order of A and B does not matter).
     table : BinaryInteractionTable, optional
-        Source of values; default :meth:`BinaryInteractionTable.bundled` (read on each call).
+        Source of values; default :meth:`BinaryInteractionTable.bundled` (parsed once).
 
     Returns
     -------
@@ -732,7 +850,7 @@ def binary_interaction_matrix(names: Sequence[str],
 
     Example
     -------
-    >>> kij = binary_interaction_matrix(["CH4", "CO2", "H2"])
+    >>> kij = binary_interaction_matrix(["CH4", "CO2", "NH3"])
     >>> print(kij[0, 1], kij[1, 0], kij[0, 2])
     0.0919 0.0919 0.0
     """

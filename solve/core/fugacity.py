@@ -32,7 +32,9 @@ class FugacityModel:
         names = [sp.name for sp in gas_species]
         kij = binary_interaction_matrix(names, overrides=dict(binary_interaction or {}))
         self.names = names
-        self.params = CubicParameters.from_species(gas_species, interaction=kij)
+        # quantum gases (H2, He, Ne) with the effective critical constants of Gunn, Chueh
+        # and Prausnitz, AIChE J. 12 (1966) 937
+        self.params = CubicParameters.from_species(gas_species, interaction=kij, quantum_gases=True)
 
     def state(self, T, P, y_sub, columns):
         """GasState for compositions ``y_sub`` (k, len(columns)) over species ``columns``."""
