@@ -20,8 +20,8 @@ and a new, empty profile folder, which is deleted afterwards.
 from __future__ import annotations
 
 import base64
-import fcntl
 import json
+import math
 import os
 import re
 import select
@@ -69,7 +69,8 @@ class Overflow:
     heading: str
 
     def describe(self) -> str:
-        return (f"<{self.tag}{self.ident}> under '{self.heading}': box {self.left:.0f}..{self.right:.0f} px "
+        return (f"<{self.tag}{self.ident}> under '{self.heading}': "
+                f"box {self.left:.0f}..{self.right:.0f} px "
                 f"(width {self.width:.0f} px, content {self.scroll_width:.0f} px)")
 
 
@@ -90,9 +91,10 @@ class LayoutFacts:
     too_wide: outermost elements whose box leaves the page (screen media);
     scrolls_sideways: elements whose content is wider than their box (a scrolling table);
     print_width: printable width of the paper [CSS px]; print_too_wide: outermost elements
-    wider than that under print media; placement: the element sought for the first screen;
-    images: number of images; failed_images: ``src`` (first 80 characters) of those that
-    did not load;
+    wider than that under print media; print_clipped: boxes whose content is wider than the
+    box under print media (paper cannot scroll: the rest is cut off); placement: the
+    element sought for the first screen; images: number of images; failed_images: ``src``
+    (first 80 characters) of those that did not load;
     requests: every URL the page asked for outside the file itself (all were refused);
     pdf: the printed PDF; pdf_pages: its page count; screenshot: PNG of the first screen.
     """
@@ -103,6 +105,7 @@ class LayoutFacts:
     scrolls_sideways: tuple[Overflow, ...]
     print_width: float
     print_too_wide: tuple[Overflow, ...]
+    print_clipped: tuple[Overflow, ...]
     placement: Placement
     images: int
     failed_images: tuple[str, ...]
@@ -176,17 +179,17 @@ class _Pipe:
         to_browser_r, self._to_browser = os.pipe()
         self._from_browser, from_browser_w = os.pipe()
 
-        def move_fds():                       # the browser reads fd 3 and writes fd 4
-            high_r = fcntl.fcntl(to_browser_r, fcntl.F_DUPFD, 10)
-            high_w = fcntl.fcntl(from_browser_w, fcntl.F_DUPFD, 10)
-            os.dup2(high_r, 3)
-            os.dup2(high_w, 4)
-
-        args = [executable, *FLAGS, f"--user-data-dir={profile}",
+        # the browser reads fd 3 and writes fd 4; a shell moves the pipe ends there (no
+        # preexec_fn: the tests call this from a thread, where preexec_fn is unsafe)
+        r, w = to_browser_r, from_browser_w
+        hr, hw = max(r, w) + 100, max(r, w) + 101    # parked above both, whatever r and w are
+        script = f'exec "$0" "$@" {hr}<&{r} {hw}>&{w} 3<&{hr} 4>&{hw} {hr}<&- {hw}>&-'
+        args = ["/bin/bash", "-c", script, executable, *FLAGS, f"--user-data-dir={profile}",
                 f"--window-size={width},{height}", "about:blank"]
-        self._proc = subprocess.Popen(args, pass_fds=(3, 4, to_browser_r, from_browser_w),
-                                      preexec_fn=move_fds, stdin=subprocess.DEVNULL,
-                                      stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+        self._log = tempfile.TemporaryFile()      # Chromium's messages (a pipe could fill up)
+        self._proc = subprocess.Popen(args, pass_fds=(to_browser_r, from_browser_w),
+                                      stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL,
+                                      stderr=self._log)
         os.close(to_browser_r)
         os.close(from_browser_w)
         self._buffer = b""
@@ -205,8 +208,11 @@ class _Pipe:
                 continue
             chunk = os.read(self._from_browser, 1 << 20)
             if not chunk:
-                err = self._proc.stderr.read().decode("utf-8", "replace")[-2000:]
-                raise BrowserError(f"Chromium closed the pipe: {err}")
+                self._proc.wait(timeout=10)
+                self._log.seek(0)
+                err = self._log.read().decode("utf-8", "replace")[-2000:]
+                raise BrowserError(f"Chromium closed the pipe (exit status "
+                                   f"{self._proc.returncode}): {err}")
             self._buffer += chunk
         text, self._buffer = self._buffer.split(b"\0", 1)
         return json.loads(text)
@@ -257,7 +263,7 @@ class _Pipe:
         finally:
             os.close(self._to_browser)
             os.close(self._from_browser)
-            self._proc.stderr.close()
+            self._log.close()
 
 
 def _overflows(items) -> tuple[Overflow, ...]:
@@ -338,15 +344,18 @@ def _measure(pipe: _Pipe, url: str, width: int, height: int, selector: str) -> L
         "marginLeft": PRINT_MARGIN_INCH, "marginRight": PRINT_MARGIN_INCH,
         "printBackground": True, "displayHeaderFooter": False}, session)["data"])
     p = screen["placement"]
+    top, bottom = (float(p["top"]), float(p["bottom"])) if p["found"] else (math.nan, math.nan)
     return LayoutFacts(
-        viewport_width=float(screen["viewport_width"]), viewport_height=float(screen["viewport_height"]),
+        viewport_width=float(screen["viewport_width"]),
+        viewport_height=float(screen["viewport_height"]),
         scroll_width=float(screen["scroll_width"]), too_wide=_overflows(screen["too_wide"]),
         scrolls_sideways=_overflows(screen["scrolls_sideways"]), print_width=float(print_width),
         print_too_wide=_overflows(printed["too_wide"]),
-        placement=Placement(p["selector"], bool(p["found"]), float(p["top"] if p["found"] else "nan"),
-                            float(p["bottom"] if p["found"] else "nan")),
-        images=int(screen["images"]), failed_images=tuple(screen["failed_images"]), requests=tuple(requests),
-        pdf=pdf, pdf_pages=pdf_page_count(pdf), screenshot=base64.b64decode(shot))
+        print_clipped=_overflows(printed["scrolls_sideways"]),
+        placement=Placement(p["selector"], bool(p["found"]), top, bottom),
+        images=int(screen["images"]), failed_images=tuple(screen["failed_images"]),
+        requests=tuple(requests), pdf=pdf, pdf_pages=pdf_page_count(pdf),
+        screenshot=base64.b64decode(shot))
 
 
 def _evaluate(pipe: _Pipe, session: str, selector: str) -> dict:
