@@ -14,7 +14,7 @@ from ..core.result import EquilibriumInputError
 from .feeds import FeedRatio
 from .feeds import STEAM
 from .inverse import _range
-from .roots import _refine
+from .roots import bracketed_roots
 from .inverse import _species_list
 from .carbon import carbon_activity
 from ..core.equilibrium import equilibrium
@@ -152,8 +152,8 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     br = np.flatnonzero(status == "bracketed")
     critical = np.full(S, np.nan)
     if br.size:
-        u, fu, ok = _refine(ln_a_c, np.full(br.size, np.log(lo)), np.full(br.size, np.log(hi)), f_lo[br], f_hi[br],
-                            br, ftol=tolerance, utol=1e-10)
+        u, fu, ok = bracketed_roots(lambda x, idx: ln_a_c(x, br[idx]), np.full(br.size, np.log(lo)),
+                                    np.full(br.size, np.log(hi)), f_lo[br], f_hi[br], ftol=tolerance, xtol=1e-10)
         critical[br] = np.where(ok, np.exp(u), np.nan)
         status[br[~ok]] = "failed"
 

@@ -36,50 +36,10 @@ from .feeds import feed_ratio_spec
 from .uncertainty import parameter_map
 from .inverse import pressure_for_conversion
 from .inverse import temperature_for_conversion
+from .roots import bracketed_roots
 
 
 # =========================================================================== inverse: temperature
-def _bracketed_roots(f, a, b, fa, fb, *, xtol: float, ftol: float, max_iter: int = 80):
-    """Roots of f(x, idx) = 0 in brackets [a, b] (fa, fb of opposite signs), all together.
-
-    Illinois regula falsi (M. Dowell, P. Jarratt, BIT 11 (1971) 168-174) with a bisection
-    step every fourth iteration and whenever the secant point is not strictly inside.
-    ``f(x, idx)`` evaluates the functions ``idx`` at the points ``x`` in one batched call.
-
-    Returns (x, ok): the point with the smallest |f| per bracket; ok False where an
-    evaluation failed (NaN).
-    """
-    a, b, fa, fb = (np.array(v, dtype=float) for v in (a, b, fa, fb))
-    n = a.size
-    best = np.where(np.abs(fa) <= np.abs(fb), a, b)
-    best_f = np.where(np.abs(fa) <= np.abs(fb), fa, fb)
-    ok = np.ones(n, dtype=bool)
-    active = (np.abs(best_f) > ftol) & (np.abs(b - a) > xtol)
-    for it in range(max_iter):
-        idx = np.flatnonzero(active)
-        if idx.size == 0:
-            break
-        A, B, FA, FB = a[idx], b[idx], fa[idx], fb[idx]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            x = B - FB * (B - A) / (FB - FA)
-        lo, hi = np.minimum(A, B), np.maximum(A, B)
-        bisect = ~np.isfinite(x) | (x <= lo) | (x >= hi) | (it % 4 == 3)
-        x = np.where(bisect, 0.5 * (A + B), x)
-        fx = f(x, idx)
-        bad = ~np.isfinite(fx)
-        better = np.abs(fx) < np.abs(best_f[idx])
-        best[idx] = np.where(better, x, best[idx])
-        best_f[idx] = np.where(better, fx, best_f[idx])
-        flip = np.sign(fx) != np.sign(FB)           # root between b and x: old b becomes a
-        a[idx] = np.where(flip, B, A)
-        fa[idx] = np.where(flip, FB, 0.5 * FA)       # Illinois: halve the retained end
-        b[idx], fb[idx] = x, fx
-        ok[idx[bad]] = False
-        done = bad | (np.abs(fx) <= ftol) | (np.abs(b[idx] - a[idx]) <= xtol)
-        active[idx[done]] = False
-    return best, ok
-
-
 class _AnswerRanking:
     """Ranking shared by the interval results of the inverse questions."""
 
@@ -260,8 +220,8 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
 
             def f_nom(x, idx, _gi=gi):
                 return conversion_at(x, _gi[idx]) - tg[_gi[idx]]
-            roots, okr = _bracketed_roots(f_nom, xa[good], xb[good], fa[good], fb[good], xtol=ROOT_XTOL,
-                                          ftol=ROOT_FTOL)
+            roots, _, okr = bracketed_roots(f_nom, xa[good], xb[good], fa[good], fb[good], xtol=ROOT_XTOL,
+                                            ftol=ROOT_FTOL)
             T_eq_ref[gi] = np.where(okr, roots, T_eq0[gi])
             crossing[gi] = okr
         rc = rc[~good]
@@ -428,8 +388,8 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
                               | (fa == 0) | (fb == 0))
         roots = np.full(n_all, np.nan)
         if todo.size:
-            xr, okr = _bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
-                                       xtol=ROOT_XTOL, ftol=ROOT_FTOL)
+            xr, _, okr = bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
+                                         xtol=ROOT_XTOL, ftol=ROOT_FTOL)
             roots[todo] = np.where(okr, xr, np.nan)
         roots = np.where(censored > 0, np.inf, np.where(censored < 0, -np.inf, roots))
         X[:, rc] = roots.reshape(S, r)

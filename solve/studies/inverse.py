@@ -49,8 +49,7 @@ from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import Reaction, bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
 from ..core.result import EquilibriumInputError
-from .roots import _Search
-from .roots import _inverse_search
+from .roots import InverseSearch, inverse_search
 from .feeds import approach_kelvin
 from .feeds import feed_ratio_spec
 from .feeds import resolve_feed
@@ -128,7 +127,7 @@ def _ratio_variable(label: str) -> _Variable:
                      lambda lo, hi: f"with {label} between {lo:.4g} and {hi:.4g}")
 
 
-def _messages(search: _Search, var: _Variable, key: str, target, conditions, lo, hi, from_u,
+def _messages(search: InverseSearch, var: _Variable, key: str, target, conditions, lo, hi, from_u,
               approach) -> list[str]:
     """One plain-language sentence per question (formatting only)."""
     out = []
@@ -374,7 +373,7 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
                            approach=dT, db=db)
 
     S = tg.size
-    search = _inverse_search(evaluate, np.full(S, lo), np.full(S, hi), tg, n_scan=n_scan, utol=1e-4,
+    search = inverse_search(evaluate, np.full(S, lo), np.full(S, hi), tg, n_scan=n_scan, utol=1e-4,
                              rtol=1e-6, from_u=lambda u: u)
     T_ans = search.value
     conv_at, T_eq = _at_answers(names, lambda idx: feed_c, np.nan_to_num(T_ans, nan=lo), P_c, T_ans, key=key,
@@ -458,7 +457,7 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
                            gas_model=gas_model, approach=dT, db=db)
 
     S = tg.size
-    search = _inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
+    search = inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
                              utol=1e-7, rtol=1e-6, from_u=np.exp)
     P_ans = _snap(np.exp(search.value), lo, hi)
     conv_at, T_eq = _at_answers(names, lambda idx: feed_c, T_c, np.nan_to_num(P_ans, nan=lo), P_ans, key=key,
@@ -538,7 +537,7 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
                            reactions=rxns, gas_model=gas_model, approach=dT, db=db)
 
     S = tg.size
-    search = _inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
+    search = inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
                              utol=1e-7, rtol=1e-6, from_u=np.exp)
     r_ans = _snap(np.exp(search.value), lo, hi)
     conv_at, T_eq = _at_answers(names, lambda idx: spec.apply(base, r_ans[idx], db), T_c, P_c, r_ans, key=key,
