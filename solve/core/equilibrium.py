@@ -19,26 +19,17 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import P_STANDARD, R, Nasa7Polynomial
+from ...thermo.models import Nasa7Polynomial, P_STANDARD, R
 from ...thermo.reactions import Reaction, bundled_database
 from ...thermo.species import standard_gibbs_RT
 from ...thermo.units import to_kelvin, to_pascal, to_si
-from .result import CondensationWarning
-from .newton import CoreOutcome
-from .result import EquilibriumInputError
-from .result import EquilibriumResult
-from .fugacity import FugacityModel
-from .result import GAS_MODELS
-from .result import NotConvergedWarning
-from .problem import _linear_estimate
-from .problem import _reachable
-from .problem import _row_basis
 from . import compiled as compiled_core
-from .problem import element_matrix
-from .newton import initial_state
-from .problem import invariant_basis
-from .newton import minimise_gibbs
-from .problem import stoichiometric_matrix
+from .fugacity import FugacityModel
+from .newton import CoreOutcome, initial_state, minimise_gibbs
+from .problem import (_linear_estimate, _reachable, _row_basis, element_matrix, invariant_basis,
+                      stoichiometric_matrix)
+from .result import (CondensationWarning, EquilibriumInputError, EquilibriumResult, GAS_MODELS,
+                     NotConvergedWarning)
 
 
 def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, tolerance, max_iterations):

@@ -9,11 +9,10 @@ from __future__ import annotations
 from typing import Sequence
 
 import numpy as np
+from scipy.optimize import linprog
 
 from ...thermo.reactions import Reaction
-from .newton import CoreState
-from .newton import initial_state
-from scipy.optimize import linprog
+from .newton import CoreState, initial_state
 
 
 def stoichiometric_matrix(reactions: Sequence[Reaction], species: Sequence[str]) -> np.ndarray:

@@ -37,17 +37,12 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import R, Nasa7Polynomial
+from ...thermo.models import Nasa7Polynomial, R
 from ...thermo.reactions import bundled_database
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
-from ..core.result import NotConvergedWarning
-from .enthalpy import _MixtureEnthalpy
-from .enthalpy import _broadcast_inputs
-from .enthalpy import _composition_temperature_derivative
-from .enthalpy import _conservation_matrix
-from .enthalpy import _records_for
 from ..core.equilibrium import equilibrium
+from ..core.result import EquilibriumInputError, EquilibriumResult, NotConvergedWarning
+from .enthalpy import (_MixtureEnthalpy, _broadcast_inputs, _composition_temperature_derivative,
+                       _conservation_matrix, _records_for)
 
 
 #: The caution that goes with every adiabatic-bed answer (see the module docstring).

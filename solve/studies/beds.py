@@ -12,12 +12,10 @@ from ...thermo.database import SpeciesDatabase
 from ...thermo.models import R
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
-from .adiabatic import CAUTION
-from ..core.result import EquilibriumInputError
-from .enthalpy import _MixtureEnthalpy
-from .enthalpy import _records_for
-from .adiabatic import adiabatic_equilibrium
 from ..core.equilibrium import equilibrium
+from ..core.result import EquilibriumInputError
+from .adiabatic import CAUTION, adiabatic_equilibrium
+from .enthalpy import _MixtureEnthalpy, _records_for
 
 
 # ====================================================================== staged adiabatic beds

@@ -12,10 +12,8 @@ import numpy as np
 
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
 from ..core.problem import element_matrix
-
+from ..core.result import EquilibriumInputError, EquilibriumResult
 
 
 CARBON_ROUTES = {

@@ -9,18 +9,12 @@ import numpy as np
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
-from .inverse import BATCH
-from ..core.result import EquilibriumInputError
-from .feeds import FeedRatio
-from .feeds import STEAM
-from .inverse import _range
-from .roots import bracketed_roots
-from .inverse import _species_list
-from .carbon import carbon_activity
 from ..core.equilibrium import equilibrium
-from .feeds import feed_ratio_spec
-from .feeds import resolve_feed
-
+from ..core.result import EquilibriumInputError
+from .carbon import carbon_activity
+from .feeds import FeedRatio, STEAM, feed_ratio_spec, resolve_feed
+from .inverse import BATCH, _range, _species_list
+from .roots import bracketed_roots
 
 
 @dataclass(frozen=True)

@@ -8,15 +8,13 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import R, Nasa7Polynomial
+from ...thermo.models import Nasa7Polynomial, R
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
-from ..core.fugacity import FugacityModel
-from ..core.problem import element_matrix
 from ..core.equilibrium import equilibrium
-from ..core.problem import invariant_basis
+from ..core.fugacity import FugacityModel
+from ..core.problem import element_matrix, invariant_basis
+from ..core.result import EquilibriumInputError, EquilibriumResult
 
 
 # ====================================================================== enthalpy models

@@ -74,6 +74,56 @@ def approach_kelvin(approach) -> float | None:
     return value
 
 
+def approach_temperatures(T, approach: float) -> np.ndarray:
+    """Both candidate equilibrium temperatures of an approach, stacked: T − ΔT then T + ΔT.
+
+    Parameters
+    ----------
+    T : ndarray, shape (m,)
+        Operating temperatures [K].
+    approach : float
+        ΔT [K], positive.
+
+    Returns
+    -------
+    ndarray, shape (2 m,)
+        ``[T − ΔT, T + ΔT]`` [K]; solve both in one batched call and pick the side per state
+        with :func:`approach_side`.  Refused (EquilibriumInputError) where T − ΔT ≤ 0 K.
+    """
+    T = np.asarray(T, dtype=float).reshape(-1)
+    if np.any(T - approach <= 0):
+        raise EquilibriumInputError(f"approach {approach:g} K takes temperatures to or below 0 K")
+    return np.concatenate([T - approach, T + approach])
+
+
+def approach_side(conversion_both) -> np.ndarray:
+    """The approach-side rule: per state, the side of the approach that lowers conversion.
+
+    An approach to equilibrium ΔT is applied on the side that lowers the conversion of the
+    key reactant: T + ΔT for an exothermic reaction, T − ΔT for an endothermic one (van 't
+    Hoff: d ln K/dT = ΔrH°/RT²).  The side is found from the conversions themselves, so it
+    also holds for several reactions.  This is the one place the rule is written.
+
+    Parameters
+    ----------
+    conversion_both : ndarray, shape (2 m,)
+        Conversion of the key [-] at :func:`approach_temperatures` (T − ΔT first).
+
+    Returns
+    -------
+    ndarray of int, shape (m,)
+        +1 where T + ΔT gives the lower conversion, −1 otherwise (ties and NaN: −1).
+
+    Examples
+    --------
+    >>> approach_side(np.array([0.30, 0.20, 0.25, 0.35])).tolist()
+    [1, -1]
+    """
+    x = np.asarray(conversion_both, dtype=float).reshape(-1)
+    m = x.size // 2
+    return np.where(x[m:] < x[:m], 1, -1)
+
+
 def axis_values(value, kind: str, what: str) -> np.ndarray | None:
     """A sweep axis as a float array in SI: 0-d for a fixed value, 1-d for an axis.
 

@@ -13,30 +13,16 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
+from ...thermo.data_uncertainty import UncertaintyDefaults
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
-from .uncertainty import ASSUMPTIONS
-from .uncertainty import ROOT_FTOL
-from .uncertainty import ROOT_XTOL
-from .uncertainty import T_STEP
-from ...thermo.data_uncertainty import UncertaintyDefaults
-from .uncertainty import _System
-from .uncertainty import _check_method
-from .uncertainty import _dY_dg
-from .uncertainty import _percent_labels
-from .uncertainty import _quantiles
-from .uncertainty import _ranking
-from .uncertainty import _shape_out
-from .uncertainty import _system
-from .uncertainty import _z
 from ..core.equilibrium import equilibrium
-from .inverse import feed_ratio_for_conversion
 from .feeds import feed_ratio_spec
-from .uncertainty import parameter_map
-from .inverse import pressure_for_conversion
-from .inverse import temperature_for_conversion
+from .inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
 from .roots import bracketed_roots
+from .uncertainty import (ASSUMPTIONS, ROOT_FTOL, ROOT_XTOL, T_STEP, _System, _check_method, _dY_dg,
+                          _percent_labels, _quantiles, _ranking, _shape_out, _system, _z, parameter_map)
 
 
 # =========================================================================== inverse: temperature
@@ -310,7 +296,6 @@ class PressureUncertainty(_AnswerRanking):
         return np.shape(self.P)
 
 
-
 def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *, method, samples, seed,
                       level, x_step=1e-4, min_width=0.02, temperature_of=None) -> dict:
     """Interval of an inverse answer x (a search variable such as ln P or ln ratio) from the
@@ -532,7 +517,6 @@ class FeedRatioUncertainty(_AnswerRanking):
     @property
     def shape(self) -> tuple:
         return np.shape(self.ratio)
-
 
 
 def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P, key: str, target, *,

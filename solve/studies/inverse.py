@@ -49,16 +49,13 @@ from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import Reaction, bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
 from ..core.result import EquilibriumInputError
-from .roots import InverseSearch, inverse_search
-from .feeds import approach_kelvin
-from .feeds import feed_ratio_spec
-from .feeds import resolve_feed
+from .feeds import approach_kelvin, feed_ratio_spec, resolve_feed
 from .maps import solve_points
+from .roots import InverseSearch, inverse_search
 
 
 #: Largest number of states per batched solver call inside the inverse questions.
 BATCH = 20000
-
 
 
 # =========================================================================== helpers
@@ -87,7 +84,6 @@ def _conversion(names, feed: Mapping[str, np.ndarray], T, P, *, key, reactions, 
                               approach=approach, database=db)
         out[sl] = res.conversion(key)
     return out
-
 
 
 def _num(x: float, decimals: int = 2) -> str:

@@ -27,20 +27,12 @@ import numpy as np
 
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import Reaction, bundled_database
-from .feeds import DEFAULT_CHUNK
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
-from .feeds import FeedRatio
-from ..core.result import NotConvergedWarning
-from .feeds import STEAM
-from .feeds import apply_inert
-from .feeds import approach_kelvin
-from .feeds import axis_values
-from .carbon import carbon_activity
 from ..core.equilibrium import equilibrium
-from .feeds import feed_ratio_spec
-from .feeds import product_per_key_from_reactions
-from .feeds import resolve_feed
+from ..core.result import EquilibriumInputError, EquilibriumResult, NotConvergedWarning
+from .carbon import carbon_activity
+from .feeds import (DEFAULT_CHUNK, FeedRatio, STEAM, apply_inert, approach_kelvin, approach_side,
+                    approach_temperatures, axis_values, feed_ratio_spec, product_per_key_from_reactions,
+                    resolve_feed)
 
 
 def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.ndarray, P: np.ndarray, *,
@@ -67,16 +59,14 @@ def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.nda
         res = equilibrium(names, feed, T, P, reactions=reactions, gas_model=gas_model, key=key,
                           database=database, warn=False)
         return res, np.zeros(m, dtype=int)
-    if np.any(T - approach <= 0):
-        raise EquilibriumInputError(f"approach {approach:g} K takes temperatures to or below 0 K")
-    T2 = np.concatenate([T - approach, T + approach])
+    T2 = approach_temperatures(T, approach)
     P2 = np.concatenate([np.broadcast_to(P, T.shape)] * 2)
     feed2 = {k: np.concatenate([np.broadcast_to(np.asarray(v, dtype=float), T.shape)] * 2)
              for k, v in feed.items()}
     both = equilibrium(names, feed2, T2, P2, reactions=reactions, gas_model=gas_model, key=key,
                        database=database, warn=False)
-    x = both.conversion(key)
-    use_hi = x[m:] < x[:m]
+    side = approach_side(both.conversion(key))
+    use_hi = side > 0
     idx = np.where(use_hi, np.arange(m) + m, np.arange(m))
     conv = both.converged[:m] & both.converged[m:]
     amounts = both.amount_array[idx].copy()
@@ -88,7 +78,7 @@ def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.nda
         g0_RT=both.g0_RT[idx], ln_phi_array=None if both.ln_phi_array is None else both.ln_phi_array[idx],
         message=f"{int(m - conv.sum())} of {m} state(s) did not converge on one side of the approach"
         if not conv.all() else "all states converged")
-    return res, np.where(use_hi, 1, -1)
+    return res, side
 
 
 def reaction_enthalpy_per_key(result: EquilibriumResult, key: str, T, database: SpeciesDatabase) -> np.ndarray:

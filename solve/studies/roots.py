@@ -12,7 +12,6 @@ from dataclasses import dataclass
 import numpy as np
 
 
-
 def bracketed_roots(f, a, b, fa, fb, *, ftol, xtol, max_iter=100):
     """Roots of f(x, idx) = 0 in the brackets [a, b], all brackets together.
 

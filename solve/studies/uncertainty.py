@@ -46,25 +46,17 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
+from ...thermo.data_uncertainty import (METHODS, REACTION_ENTHALPY, REACTION_ENTROPY, UncertainDatum,
+                                        UncertaintyDefaults, UncertaintyInputError, _bundled_defaults,
+                                        _kinds_of, _normalise_overrides, _read_u, species_uncertainty)
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import R
 from ...thermo.reactions import Reaction, ReactionLevelData, bundled_database
 from ...thermo.species import Species
 from ...thermo.units import to_kelvin, to_pascal
-from ..core.result import EquilibriumInputError
-from ...thermo.data_uncertainty import METHODS
-from ...thermo.data_uncertainty import REACTION_ENTHALPY
-from ...thermo.data_uncertainty import REACTION_ENTROPY
-from ...thermo.data_uncertainty import UncertainDatum
-from ...thermo.data_uncertainty import UncertaintyDefaults
-from ...thermo.data_uncertainty import UncertaintyInputError
-from ...thermo.data_uncertainty import _bundled_defaults
-from ...thermo.data_uncertainty import _kinds_of
-from ...thermo.data_uncertainty import _normalise_overrides
-from ...thermo.data_uncertainty import _read_u
-from .feeds import approach_kelvin
 from ..core.equilibrium import equilibrium
-from ...thermo.data_uncertainty import species_uncertainty
+from ..core.result import EquilibriumInputError
+from .feeds import approach_kelvin, approach_side, approach_temperatures
 
 
 #: Largest number of states handed to one call of :func:`equilibrium` (memory bound);
@@ -582,12 +574,9 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
     P_f = np.broadcast_to(P_arr, shape).reshape(-1)
     state = np.arange(p)
     if dT:
-        both_T = np.concatenate([T_op - dT, T_op + dT])
-        if np.any(both_T <= 0):
-            raise EquilibriumInputError(f"approach {dT:g} K takes temperatures to or below 0 K")
+        both_T = approach_temperatures(T_op, dT)
         am, fe, _ = system.solve(both_T, np.concatenate([P_f, P_f]), np.concatenate([state, state]))
-        x = system.conversion(am, fe)
-        hot = x[p:] < x[:p]
+        hot = approach_side(system.conversion(am, fe)) > 0
         T_eq = np.where(hot, T_op + dT, T_op - dT)
         am0, fe0 = np.where(hot[:, None], am[p:], am[:p]), np.where(hot[:, None], fe[p:], fe[:p])
     else:
@@ -795,7 +784,6 @@ def reaction_level_ln_K_uncertainty(data: ReactionLevelData, T, *, u_delta_h, u_
                                 UncertainDatum(label, REACTION_ENTROPY, us, "user")))
 
 
-
 # =========================================================================== outputs
 @dataclass(frozen=True)
 class Band:
@@ -862,7 +850,6 @@ def ranking_rows(ranking: Sequence[RankedDatum], *, answer_unit: str = "K", top:
                      f"sensitivity [{answer_unit} per {d.unit}]": e.sensitivity,
                      f"contribution [{answer_unit}]": e.contribution, "share of variance [%]": 100.0 * e.share})
     return rows
-
 
 
 # =========================================================================== settings
