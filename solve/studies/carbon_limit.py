@@ -116,7 +116,7 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     names = [n for n in _species_list(species, base, (), db, (spec.numerator,)) if db[n].is_gas]
     if not any(db[n].elements.get("C", 0) > 0 for n in names):
         raise EquilibriumInputError("no carbon-containing gas species: graphite cannot form")
-    spec.denominator_amount(base, db)
+    spec.checked_basis(base, db)
     T_arr = np.asarray(to_kelvin(T), dtype=float)
     P_arr = np.asarray(to_pascal(P), dtype=float)
     shape = np.broadcast_shapes(T_arr.shape, P_arr.shape)
@@ -129,7 +129,7 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
         out = np.empty(u.size)
         for s in range(0, u.size, BATCH):
             sl = slice(s, min(s + BATCH, u.size))
-            f = spec.apply(base, np.exp(u[sl]), db)
+            f = spec.feed_at(base, np.exp(u[sl]), db)
             f = {k: np.broadcast_to(v, u[sl].shape) for k, v in f.items()}
             res = equilibrium(names, f, T_c[case[sl]], P_c[case[sl]], gas_model=gas_model, database=db, warn=False)
             with np.errstate(divide="ignore"):
@@ -162,8 +162,8 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
             stable = a_grid > 1.0
     n_out = int(np.count_nonzero(status != "bracketed"))
     message = (f"{S} state(s): boundary found at {S - n_out}"
-               + (f"; {n_out} outside {spec.label} {lo:g}-{hi:g} or failed (see status)" if n_out else ""))
+               + (f"; {n_out} outside {spec.name} {lo:g}-{hi:g} or failed (see status)" if n_out else ""))
     return CarbonLimit(T=np.broadcast_to(T_arr, shape).copy(), P=np.broadcast_to(P_arr, shape).copy(),
-                       ratio_name=spec.label, critical_ratio=critical.reshape(shape),
+                       ratio_name=spec.name, critical_ratio=critical.reshape(shape),
                        status=status.reshape(shape), ratio_range=(lo, hi), ratio_values=ratio_values,
                        carbon_activity=a_grid, graphite_stable=stable, message=message)

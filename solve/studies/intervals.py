@@ -557,14 +557,14 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
     key_r = db.resolve(key)
     base = {db.resolve(k): float(to_si(v, "amount")) for k, v in feed.items()}
     species_all = list(species) + ([spec.numerator] if spec.numerator not in species else [])
-    probe = equilibrium(species_all, spec.apply(base, np.exp(0.5 * (lo + hi)), db), float(np.nanmean(T_eq)),
+    probe = equilibrium(species_all, spec.feed_at(base, np.exp(0.5 * (lo + hi)), db), float(np.nanmean(T_eq)),
                         float(np.nanmean(P_c)), reactions=reactions, gas_model=gas_model, key=key_r, database=db,
                         warn=False)
     names = list(probe.species)
     pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
 
     def system_for(x):
-        fed = spec.apply(base, np.exp(np.asarray(x, dtype=float)), db)
+        fed = spec.feed_at(base, np.exp(np.asarray(x, dtype=float)), db)
         rows = np.zeros((np.size(x), len(names)))
         for k, v in fed.items():
             rows[:, names.index(k)] = np.broadcast_to(v, np.shape(x))

@@ -526,23 +526,23 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
     if np.any(T_c <= 0) or (dT and np.any(T_c - dT <= 0)) or np.any(P_c <= 0):
         raise EquilibriumInputError("temperatures (minus the approach) and pressures must be above zero")
     lo, hi = _range(ratio_range, "dimensionless", "ratio_range")
-    spec.denominator_amount(base, db)        # checks the denominator is fed
+    spec.checked_basis(base, db)        # checks the denominator is fed
 
     def evaluate(u, case):
-        return _conversion(names, spec.apply(base, np.exp(u), db), T_c[case], P_c[case], key=key,
+        return _conversion(names, spec.feed_at(base, np.exp(u), db), T_c[case], P_c[case], key=key,
                            reactions=rxns, gas_model=gas_model, approach=dT, db=db)
 
     S = tg.size
     search = inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
                              utol=1e-7, rtol=1e-6, from_u=np.exp)
     r_ans = _snap(np.exp(search.value), lo, hi)
-    conv_at, T_eq = _at_answers(names, lambda idx: spec.apply(base, r_ans[idx], db), T_c, P_c, r_ans, key=key,
+    conv_at, T_eq = _at_answers(names, lambda idx: spec.feed_at(base, r_ans[idx], db), T_c, P_c, r_ans, key=key,
                                 rxns=rxns, gas_model=gas_model, dT=dT, db=db)
     conditions = [f"at {_num(t, 2)} K and {_bar(p)}" for t, p in zip(T_c, P_c)]
-    msgs = _messages(search, _ratio_variable(spec.label), key, tg, conditions, lo, hi,
+    msgs = _messages(search, _ratio_variable(spec.name), key, tg, conditions, lo, hi,
                      lambda u: _snap(np.exp(u), lo, hi), dT)
     return FeedRatioAnswer(
-        ratio=_shape_out(r_ans, shape), ratio_name=spec.label, reached=_shape_out(search.reached, shape),
+        ratio=_shape_out(r_ans, shape), ratio_name=spec.name, reached=_shape_out(search.reached, shape),
         at_range_end=_shape_out(search.whole_range, shape),
         conversion_at_ratio=_shape_out(conv_at, shape),
         best_conversion=_shape_out(search.best_conversion, shape),

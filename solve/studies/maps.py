@@ -369,7 +369,7 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
 
     specs = [("T", T_ax, "K"), ("P", P_ax, "Pa")]
     if ratio_ax is not None:
-        specs.append((ratio_spec.label, ratio_ax, "mol/mol"))
+        specs.append((ratio_spec.name, ratio_ax, "mol/mol"))
     if inert_ax is not None:
         specs.append((f"{inert_name} fraction", inert_ax, "-"))
     axes = tuple(SweepAxis(n, v.copy(), u) for n, v, u in specs if v.ndim == 1)
@@ -387,7 +387,7 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
     P_flat = column("P", P_ax)
     feed_flat: dict[str, np.ndarray] = {k: np.full(n_points, v) for k, v in base.items()}
     if ratio_spec is not None:
-        feed_flat = ratio_spec.apply(base, column(ratio_spec.label, ratio_ax), db)
+        feed_flat = ratio_spec.feed_at(base, column(ratio_spec.name, ratio_ax), db)
         feed_flat = {k: np.broadcast_to(v, (n_points,)).copy() for k, v in feed_flat.items()}
     if inert_ax is not None:
         feed_flat = apply_inert(feed_flat, inert_name, column(f"{inert_name} fraction", inert_ax))

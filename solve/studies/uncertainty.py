@@ -55,7 +55,6 @@ from ...thermo.reactions import Reaction, ReactionLevelData, bundled_database
 from ...thermo.species import Species
 from ...thermo.units import to_kelvin, to_pascal
 from ..core.equilibrium import equilibrium
-from ..core.result import EquilibriumInputError
 from .feeds import approach_kelvin, approach_side, approach_temperatures
 
 
