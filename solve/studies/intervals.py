@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass, field
-from typing import Mapping, Sequence
+from typing import ClassVar, Mapping, Sequence
 
 import numpy as np
 
@@ -19,6 +19,7 @@ from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
 from ..core.equilibrium import equilibrium
 from .feeds import feed_ratio_spec
+from .answers import InverseAnswer
 from .inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
 from .roots import bracketed_roots
 from .uncertainty import (ASSUMPTIONS, ROOT_FTOL, ROOT_XTOL, T_STEP, _System, _check_method, _dY_dg,
@@ -37,7 +38,7 @@ class _AnswerRanking:
 
 
 @dataclass(frozen=True)
-class TemperatureUncertainty(_AnswerRanking):
+class TemperatureUncertainty(_AnswerRanking, InverseAnswer):
     """The temperature for a target conversion, with its interval from data uncertainty.
 
     Scalars for one question; arrays of the broadcast shape of P and target otherwise.
@@ -62,7 +63,16 @@ class TemperatureUncertainty(_AnswerRanking):
     sample_T : ndarray | None
         Monte Carlo answers, shape (samples, *shape) [K].
     P, target, key, approach, method, level, samples, seed, message
+    at_range_end : bool | ndarray
+        The nominal target is met over the whole ``T_range`` (the value is a range end).
+    value, unit, status, shape
+        The shared answer shape (:class:`~eqdesign.solve.studies.answers.InverseAnswer`):
+        ``value`` is ``T`` [K]; ``status`` per question ``"reached"``, ``"search-range end"``
+        or ``"not reachable"``.
     """
+
+    value_field: ClassVar[str] = "T"
+    unit: ClassVar[str] = "K"
 
     T: object
     lower: object
@@ -85,10 +95,7 @@ class TemperatureUncertainty(_AnswerRanking):
     approach: float | None = None
     T_range: tuple = (np.nan, np.nan)
     message: object = ""
-
-    @property
-    def shape(self) -> tuple:
-        return np.shape(self.T)
+    at_range_end: object = False
 
 
     def summary(self, at=None) -> str:
@@ -244,11 +251,12 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
         target=_shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
         seed=seed if method == "monte-carlo" else None, sensitivity=sens.reshape(shape + (len(pm.data),)),
         data=pm.data, sample_T=sample_T, n_failed=_shape_out(n_failed, shape), approach=dT or None, T_range=(lo, hi),
-        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
+        at_range_end=nominal.at_range_end)
 
 
 @dataclass(frozen=True)
-class PressureUncertainty(_AnswerRanking):
+class PressureUncertainty(_AnswerRanking, InverseAnswer):
     """The pressure for a target conversion, with its interval from data uncertainty.
 
     Scalars for one question; arrays of the broadcast shape of T and target otherwise.
@@ -262,13 +270,18 @@ class PressureUncertainty(_AnswerRanking):
         the draws reaches the target only beyond ``P_range``.
     relative_uncertainty : float | ndarray
         u(ln P) [-], the relative standard uncertainty of the pressure.
-    reached, beyond_range, T, target, key, method, level, samples, seed, message
+    reached, beyond_range, T, target, key, method, level, samples, seed, message, at_range_end
         As for :class:`TemperatureUncertainty` (T [K] is the operating temperature).
+    value, unit, status, shape
+        The shared answer shape: ``value`` is ``P`` [Pa].
     sensitivity : ndarray, shape (*shape, n_data)
         d ln P/dθ_k = −(∂X/∂θ_k)/(∂X/∂ln P) [per J/mol or per J/(mol K)].
     sample_P : ndarray | None
         Monte Carlo answers, shape (samples, *shape) [Pa].
     """
+
+    value_field: ClassVar[str] = "P"
+    unit: ClassVar[str] = "Pa"
 
     P: object
     lower: object
@@ -290,10 +303,7 @@ class PressureUncertainty(_AnswerRanking):
     n_failed: object = 0
     P_range: tuple = (np.nan, np.nan)
     message: object = ""
-
-    @property
-    def shape(self) -> tuple:
-        return np.shape(self.P)
+    at_range_end: object = False
 
 
 def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *, method, samples, seed,
@@ -480,17 +490,22 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
         samples=samples if method == "monte-carlo" else 0, seed=seed if method == "monte-carlo" else None,
         sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_P=sample_P,
         n_failed=_shape_out(found["n_failed"], shape), P_range=(math.exp(lo), math.exp(hi)),
-        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
+        at_range_end=nominal.at_range_end)
 
 
 @dataclass(frozen=True)
-class FeedRatioUncertainty(_AnswerRanking):
+class FeedRatioUncertainty(_AnswerRanking, InverseAnswer):
     """The feed ratio for a target conversion, with its interval from data uncertainty.
 
     Attributes as :class:`PressureUncertainty`, with ``ratio``, ``lower``, ``median``,
     ``upper`` [mol/mol], ``relative_uncertainty`` = u(ln ratio) [-], ``ratio_name``,
-    ``sample_ratio`` and the operating ``T`` [K] and ``P`` [Pa].
+    ``sample_ratio`` and the operating ``T`` [K] and ``P`` [Pa]; the shared answer shape
+    with ``value`` = ``ratio`` [mol/mol].
     """
+
+    value_field: ClassVar[str] = "ratio"
+    unit: ClassVar[str] = "mol/mol"
 
     ratio: object
     lower: object
@@ -513,10 +528,7 @@ class FeedRatioUncertainty(_AnswerRanking):
     sample_ratio: np.ndarray | None = field(default=None, repr=False)
     n_failed: object = 0
     message: object = ""
-
-    @property
-    def shape(self) -> tuple:
-        return np.shape(self.ratio)
+    at_range_end: object = False
 
 
 def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P, key: str, target, *,
@@ -595,7 +607,8 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
         seed=seed if method == "monte-carlo" else None,
         sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_ratio=sample_r,
         n_failed=_shape_out(found["n_failed"], shape),
-        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
+        at_range_end=nominal.at_range_end)
 
 
 def _system_for_cases(system: _System, P_cases) -> _System:

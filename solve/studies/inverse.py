@@ -41,7 +41,7 @@ the applicable local codes and licensed engineering practice.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Callable, Mapping, Sequence
+from typing import Callable, ClassVar, Mapping, Sequence
 
 import numpy as np
 
@@ -49,6 +49,7 @@ from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import Reaction, bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
 from ..core.result import EquilibriumInputError
+from .answers import InverseAnswer
 from .feeds import approach_kelvin, feed_ratio_spec, resolve_feed
 from .maps import solve_points
 from .roots import InverseSearch, inverse_search
@@ -204,7 +205,7 @@ def _range(rng, kind, what):
 
 # =========================================================================== results
 @dataclass(frozen=True)
-class TemperatureAnswer:
+class TemperatureAnswer(InverseAnswer):
     """Temperature at which the equilibrium conversion of ``key`` reaches ``target``.
 
     Scalars for a single question; arrays of the broadcast shape of P and target otherwise
@@ -231,7 +232,14 @@ class TemperatureAnswer:
     P : float | ndarray
         Pressure [Pa].
     target, key, approach, message
+    value, unit, status, shape
+        The shared answer shape (:class:`~eqdesign.solve.studies.answers.InverseAnswer`):
+        ``value`` is ``T``, ``unit`` ``"K"``, ``status`` per question ``"reached"``,
+        ``"search-range end"`` or ``"not reachable"``.
     """
+
+    value_field: ClassVar[str] = "T"
+    unit: ClassVar[str] = "K"
 
     T: object
     reached: object
@@ -249,13 +257,17 @@ class TemperatureAnswer:
 
 
 @dataclass(frozen=True)
-class PressureAnswer:
+class PressureAnswer(InverseAnswer):
     """Pressure at which the equilibrium conversion of ``key`` reaches ``target``.
 
     Attributes: ``P`` [Pa], ``reached``, ``at_range_end``, ``conversion_at_P`` [-], ``best_conversion`` [-],
     ``best_P`` [Pa], ``crossings`` (values in Pa), ``T`` [K], ``T_equilibrium`` [K],
     ``target``, ``key``, ``approach`` [K], ``message``; shapes as in :class:`TemperatureAnswer`.
+    ``value`` is ``P``, ``unit`` ``"Pa"``; ``status`` as in :class:`TemperatureAnswer`.
     """
+
+    value_field: ClassVar[str] = "P"
+    unit: ClassVar[str] = "Pa"
 
     P: object
     reached: object
@@ -273,14 +285,18 @@ class PressureAnswer:
 
 
 @dataclass(frozen=True)
-class FeedRatioAnswer:
+class FeedRatioAnswer(InverseAnswer):
     """Feed ratio (numerator/denominator amount) at which the conversion reaches ``target``.
 
     Attributes: ``ratio`` [mol/mol], ``ratio_name`` (``"H2O/CO"`` or ``"steam-to-carbon"``),
     ``reached``, ``at_range_end``, ``conversion_at_ratio`` [-], ``best_conversion`` [-], ``best_ratio``
     [mol/mol], ``crossings``, ``T`` [K], ``P`` [Pa], ``T_equilibrium`` [K], ``target``,
     ``key``, ``approach`` [K], ``message``; shapes as in :class:`TemperatureAnswer`.
+    ``value`` is ``ratio``, ``unit`` ``"mol/mol"``; ``status`` as in :class:`TemperatureAnswer`.
     """
+
+    value_field: ClassVar[str] = "ratio"
+    unit: ClassVar[str] = "mol/mol"
 
     ratio: object
     ratio_name: str
