@@ -20,11 +20,12 @@ import numpy as np
 
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import Nasa7Polynomial, P_STANDARD, R
-from ...thermo.reactions import Reaction, bundled_database
+from ...thermo.reactions import bundled_database
 from ...thermo.species import standard_gibbs_RT
-from ...thermo.units import to_kelvin, to_pascal, to_si
 from . import compiled as compiled_core
 from .fugacity import FugacityModel
+from .inputs import (broadcast_shape, feed_mapping, mapping_or_none, positive_number, pressures, quantity,
+                     reaction_list, species_names, temperatures, whole_number)
 from .newton import CoreOutcome, initial_state, minimise_gibbs
 from .problem import (_linear_estimate, _reachable, _row_basis, element_matrix, invariant_basis,
                       stoichiometric_matrix)
@@ -129,7 +130,17 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     db = database or bundled_database()
     if gas_model not in GAS_MODELS:
         raise EquilibriumInputError(f"gas_model {gas_model!r}: use one of {', '.join(GAS_MODELS)}")
-    rxns = tuple(Reaction.parse(r, db) if isinstance(r, str) else r for r in (reactions or ()))
+    species = species_names(species)
+    feed = feed_mapping(feed)
+    rxns = reaction_list(reactions, db)
+    if key is not None and not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be a species name (text), got {key!r}")
+    if initial is not None and not isinstance(initial, EquilibriumResult):
+        raise EquilibriumInputError(f"initial must be an EquilibriumResult of an earlier solve, got "
+                                    f"{type(initial).__name__}")
+    tolerance = positive_number(tolerance, "tolerance")
+    max_iterations = whole_number(max_iterations, "max_iterations", 1)
+    mapping_or_none(g0_shift, "g0_shift", "{'NH3': 500.0} (J/mol)")
     names: list[str] = []
     for n in list(species) + list(feed):
         resolved = db.resolve(n)
@@ -142,20 +153,16 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     records = [db.species[n] for n in names]
     ns = len(names)
 
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    feed_arrays = {db.resolve(k): np.asarray(to_si(v, "amount"), dtype=float) for k, v in feed.items()}
-    shift_arrays = {db.resolve(k): np.asarray(v, dtype=float) for k, v in (g0_shift or {}).items()}
-    H_arr = None if enthalpy is None else np.asarray(to_si(enthalpy, "energy"), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, *(a.shape for a in feed_arrays.values()),
-                                *(a.shape for a in shift_arrays.values()),
-                                *(() if H_arr is None else (H_arr.shape,)))
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    feed_arrays = {db.resolve(k): quantity(v, "amount", f"feed of {k}") for k, v in feed.items()}
+    shift_arrays = {db.resolve(k): quantity(v, "molar_energy", f"g0_shift of {k}") for k, v in (g0_shift or {}).items()}
+    H_arr = None if enthalpy is None else quantity(enthalpy, "energy", "enthalpy")
+    shape = broadcast_shape(T=T_arr, P=P_arr, **{f"feed of {k}": a for k, a in feed_arrays.items()},
+                            **{f"g0_shift of {k}": a for k, a in shift_arrays.items()},
+                            **({} if H_arr is None else {"enthalpy": H_arr}))
     T_b = np.broadcast_to(T_arr, shape)
     P_b = np.broadcast_to(P_arr, shape)
-    if np.any(~np.isfinite(T_b)) or np.any(T_b <= 0):
-        raise EquilibriumInputError("temperatures must be finite and above 0 K")
-    if np.any(~np.isfinite(P_b)) or np.any(P_b <= 0):
-        raise EquilibriumInputError("pressures must be finite and above 0 Pa")
     n_points = int(np.prod(shape)) if shape else 1
     n0 = np.zeros((n_points, ns))
     for name, arr in feed_arrays.items():
@@ -166,6 +173,10 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     total_feed = n0.sum(axis=1)
     if np.any(total_feed <= 0):
         raise EquilibriumInputError("the feed is empty (all amounts zero) at some state")
+    if np.any(total_feed < np.finfo(float).tiny):
+        raise EquilibriumInputError(f"the feed total is below {np.finfo(float).tiny:.3g} mol (the smallest "
+                                    "normal float) at some state; scale the amounts up (the equilibrium "
+                                    "composition does not depend on the scale)")
     Tf = T_b.reshape(n_points).copy()
     Pf = P_b.reshape(n_points)
     if H_arr is not None:

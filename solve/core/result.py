@@ -149,7 +149,10 @@ class EquilibriumResult:
 
     # ----------------------------------------------------------------- reactions
     def conversion(self, key: str | None = None):
-        """Fractional conversion of a reactant, (n_in - n_out) / n_in [-]."""
+        """Fractional conversion of a reactant, (n_in - n_out) / n_in [-].
+
+        Refused (EquilibriumInputError) where the key is not fed: its conversion is undefined.
+        """
         key = key or self.key
         if key is None:
             raise EquilibriumInputError("name the key reactant: conversion('N2')")
@@ -157,6 +160,9 @@ class EquilibriumResult:
             raise EquilibriumInputError(f"key reactant {key!r} is not among the species {list(self.species)}")
         k = self.species.index(key)
         n0 = self.feed_array[..., k]
+        if np.any(n0 <= 0):
+            raise EquilibriumInputError(f"key reactant {key!r} is not in the feed (at {int(np.sum(n0 <= 0))} "
+                                        "state(s)), so its conversion is undefined; feed it or choose another key")
         with np.errstate(invalid="ignore", divide="ignore"):
             x = (n0 - self.amount_array[..., k]) / n0
         return float(x) if np.ndim(x) == 0 else x
