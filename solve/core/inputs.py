@@ -138,7 +138,7 @@ def broadcast_shape(**arrays) -> tuple:
 
 
 def whole_number(n, what: str, minimum: int) -> int:
-    """``n`` as an int, at least ``minimum``; refuses floats with a fraction, bools and text.
+    """``n`` as an int, at least ``minimum``; refuses floats, bools and text.
 
     Examples
     --------
@@ -150,8 +150,6 @@ def whole_number(n, what: str, minimum: int) -> int:
     eqdesign.solve.core.result.EquilibriumInputError: n_scan must be a whole number of at least 2, got 1
     """
     ok = isinstance(n, numbers.Integral) and not isinstance(n, (bool, np.bool_))
-    if not ok and isinstance(n, numbers.Real) and not isinstance(n, (bool, np.bool_)) and float(n).is_integer():
-        ok, n = True, int(n)
     if not ok or n < minimum:
         raise EquilibriumInputError(f"{what} must be a whole number of at least {minimum}, got {n!r}")
     return int(n)

@@ -11,11 +11,14 @@ import numpy as np
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import R
 from ...thermo.reactions import bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
+from ...thermo.units import to_kelvin
 from ..core.equilibrium import equilibrium
+from ..core.inputs import (conversion_targets, feed_mapping, pressures, species_names, temperatures,
+                           whole_number)
 from ..core.result import EquilibriumInputError
 from .adiabatic import CAUTION, adiabatic_equilibrium
 from .enthalpy import _MixtureEnthalpy, _records_for
+from .feeds import resolve_feed
 
 
 # ====================================================================== staged adiabatic beds
@@ -250,31 +253,37 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
     620.8 degC, 0.9860
     """
     db = database or bundled_database()
+    if not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be the name of the key reactant (text), got {key!r}")
     key = db.resolve(key)
-    P_f = float(to_pascal(P))
+    P_arr = pressures(P)
+    if P_arr.ndim:
+        raise EquilibriumInputError("P must be a single pressure here (one converter per call)")
+    P_f = float(P_arr)
     names: list[str] = []
-    for n in list(species) + list(feed) + [key]:
+    for n in species_names(species) + list(feed_mapping(feed)) + [key]:
         r = db.resolve(n)
         if r not in names:
             names.append(r)
-    feed0 = {db.resolve(k): float(to_si(v, "amount")) for k, v in feed.items()}
+    feed0 = resolve_feed(feed, db)
     if feed0.get(key, 0.0) <= 0:
         raise EquilibriumInputError(f"the key reactant {key} must be in the feed")
     if isinstance(inlet_T, (str, int, float)) or np.ndim(inlet_T) == 0:
         inlets = None
-        T_common = float(to_kelvin(inlet_T))
+        T_common = float(temperatures(inlet_T, "inlet_T"))
     else:
-        inlets = [float(to_kelvin(t)) for t in inlet_T]
+        inlets = [float(temperatures(t, "inlet_T")) for t in inlet_T]
         if not inlets:
             raise EquilibriumInputError("inlet_T: give one temperature or one per bed")
     if n_beds is None and target is None:
         raise EquilibriumInputError("give n_beds (how many beds) or target (the overall conversion to reach)")
-    if target is not None and not 0.0 < float(target) < 1.0:
-        raise EquilibriumInputError(f"target conversion must lie between 0 and 1, got {target}")
+    if target is not None:
+        conversion_targets(target)
+        if np.ndim(target):
+            raise EquilibriumInputError("target must be a single conversion here")
+    whole_number(max_beds, "max_beds", 1)
     if n_beds is not None:
-        planned = int(n_beds)
-        if planned < 1:
-            raise EquilibriumInputError("n_beds must be at least 1")
+        planned = whole_number(n_beds, "n_beds", 1)
         if inlets is not None and planned > len(inlets):
             raise EquilibriumInputError(f"n_beds = {planned} but only {len(inlets)} inlet "
                                         "temperature(s) given")

@@ -29,6 +29,12 @@ def _chemical_potentials(result: EquilibriumResult) -> np.ndarray:
         return result.g0_RT + result.ln_activity()
 
 
+def _require_result(result) -> None:
+    if not isinstance(result, EquilibriumResult):
+        raise EquilibriumInputError(f"give the EquilibriumResult of an equilibrium() call, got "
+                                    f"{type(result).__name__}")
+
+
 def carbon_activity_by_route(result: EquilibriumResult, *, database: SpeciesDatabase | None = None) -> dict:
     """Activity of graphite implied by each carbon-forming reaction in the gas [-].
 
@@ -43,6 +49,7 @@ def carbon_activity_by_route(result: EquilibriumResult, *, database: SpeciesData
     dict[str, float | ndarray]
         Route (reaction text) -> a_C.
     """
+    _require_result(result)
     db = database or bundled_database()
     mu = _chemical_potentials(result)
     g_c = np.asarray(db[GRAPHITE].gibbs_RT(np.asarray(result.T, dtype=float)))
@@ -121,6 +128,7 @@ def carbon_activity(result: EquilibriumResult, *, database: SpeciesDatabase | No
     """
     if method not in ("auto", "element-potential"):
         raise EquilibriumInputError(f"method {method!r}: use 'auto' or 'element-potential'")
+    _require_result(result)
     db = database or bundled_database()
     shape = np.shape(result.T)
     if result.reactions:

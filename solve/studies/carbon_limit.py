@@ -8,8 +8,9 @@ import numpy as np
 
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
+from ...thermo.units import to_si
 from ..core.equilibrium import equilibrium
+from ..core.inputs import broadcast_shape, feed_mapping, pressures, species_names, temperatures
 from ..core.result import EquilibriumInputError
 from .carbon import carbon_activity
 from .feeds import FeedRatio, STEAM, feed_ratio_spec, resolve_feed
@@ -101,12 +102,13 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     1.02
     """
     db = database or bundled_database()
-    base = resolve_feed(feed, db)
+    base = resolve_feed(feed_mapping(feed), db)
+    species = species_names(species)
     values = None
     if feed_ratio is not None:
         if steam_to_carbon is not None:
             raise EquilibriumInputError("give steam_to_carbon or feed_ratio, not both")
-        if len(feed_ratio) == 3:
+        if isinstance(feed_ratio, (tuple, list)) and len(feed_ratio) == 3:
             spec, values = feed_ratio_spec(feed_ratio[:2], db), feed_ratio[2]
         else:
             spec = feed_ratio_spec(feed_ratio, db)
@@ -117,9 +119,9 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     if not any(db[n].elements.get("C", 0) > 0 for n in names):
         raise EquilibriumInputError("no carbon-containing gas species: graphite cannot form")
     spec.checked_basis(base, db)
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape)
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    shape = broadcast_shape(T=T_arr, P=P_arr)
     T_c = np.broadcast_to(T_arr, shape).reshape(-1)
     P_c = np.broadcast_to(P_arr, shape).reshape(-1)
     lo, hi = _range(ratio_range, "dimensionless", "ratio_range")

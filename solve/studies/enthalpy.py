@@ -10,9 +10,9 @@ import numpy as np
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import Nasa7Polynomial, R
 from ...thermo.reactions import bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
 from ..core.equilibrium import equilibrium
 from ..core.fugacity import FugacityModel
+from ..core.inputs import broadcast_shape, feed_mapping, pressures, quantity, species_names, temperatures
 from ..core.problem import element_matrix, invariant_basis
 from ..core.result import EquilibriumInputError, EquilibriumResult
 
@@ -148,21 +148,28 @@ def mixture_enthalpy(result: EquilibriumResult, *, database: SpeciesDatabase | N
 def _broadcast_inputs(db, species, feed, T, P, T_other=None):
     """Resolve names and broadcast feed, T [K], P [Pa] (and a second temperature [K]);
     returns names, shape, flat T, flat P, feed amounts (p, n_species) and flat T_other."""
+    feed = feed_mapping(feed)
     names: list[str] = []
-    for n in list(species) + list(feed):
+    for n in species_names(species) + list(feed):
         r = db.resolve(n)
         if r not in names:
             names.append(r)
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    T2_arr = np.asarray(to_kelvin(T_other if T_other is not None else 0.0), dtype=float)
-    feed_arrays = {db.resolve(k): np.asarray(to_si(v, "amount"), dtype=float) for k, v in feed.items()}
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, T2_arr.shape,
-                                *(a.shape for a in feed_arrays.values()))
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    T2_arr = np.asarray(0.0) if T_other is None else temperatures(T_other, "second temperature")
+    feed_arrays = {db.resolve(k): quantity(v, "amount", f"feed of {k}") for k, v in feed.items()}
+    for k, a in feed_arrays.items():
+        if np.any(a < 0):
+            raise EquilibriumInputError(f"feed of {k} must be non-negative")
+    shape = broadcast_shape(T=T_arr, P=P_arr, **({} if T_other is None else {"second temperature": T2_arr}),
+                            **{f"feed of {k}": a for k, a in feed_arrays.items()})
     p = int(np.prod(shape)) if shape else 1
     n0 = np.zeros((p, len(names)))
     for name, arr in feed_arrays.items():
         n0[:, names.index(name)] += np.broadcast_to(arr, shape).reshape(p)
+    if np.any(n0.sum(axis=1) < np.finfo(float).tiny):
+        raise EquilibriumInputError("the feed is empty (all amounts zero or subnormal) at some state; "
+                                    "give at least one positive amount")
 
     def flat(a):
         return np.broadcast_to(a, shape).reshape(p).copy()

@@ -22,7 +22,7 @@ from .feeds import feed_ratio_spec
 from .answers import InverseAnswer
 from .inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
 from .roots import bracketed_roots
-from .uncertainty import (ASSUMPTIONS, ROOT_FTOL, ROOT_XTOL, T_STEP, _System, _check_method, _dY_dg,
+from .uncertainty import (ASSUMPTIONS, ROOT_FTOL, ROOT_XTOL, T_STEP, _System, check_method, _dY_dg,
                           _percent_labels, _quantiles, _ranking, _shape_out, _system, _z, parameter_map)
 
 
@@ -165,7 +165,7 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
     >>> round(r.T, 1), round(r.standard_uncertainty, 1)
     (833.2, 5.4)
     """
-    _check_method(method, samples, level)
+    check_method(method, samples, level, seed)
     db = database or bundled_database()
     nominal = temperature_for_conversion(species, feed, P, key, target, T_range=T_range, reactions=reactions,
                                          gas_model=gas_model, approach=approach, database=db)
@@ -448,7 +448,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     >>> round(r.P / 1e5, 1), round(r.relative_uncertainty, 2)
     (146.1, 0.06)
     """
-    _check_method(method, samples, level)
+    check_method(method, samples, level, seed)
     db = database or bundled_database()
     nominal = pressure_for_conversion(species, feed, T, key, target, P_range=P_range, reactions=reactions,
                                       gas_model=gas_model, approach=approach, database=db)
@@ -552,7 +552,7 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
     >>> round(r.ratio, 3), r.relative_uncertainty < 0.05
     (1.705, True)
     """
-    _check_method(method, samples, level)
+    check_method(method, samples, level, seed)
     db = database or bundled_database()
     nominal = feed_ratio_for_conversion(species, feed, T, P, key, target, ratio=ratio, ratio_range=ratio_range,
                                         reactions=reactions, gas_model=gas_model, approach=approach, database=db)

@@ -46,8 +46,10 @@ from typing import Callable, ClassVar, Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.reactions import Reaction, bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
+from ...thermo.reactions import bundled_database
+from ...thermo.units import to_kelvin, to_si
+from ..core.inputs import (broadcast_shape, conversion_targets, feed_mapping, pressures, quantity, reaction_list,
+                           species_names, temperatures, whole_number)
 from ..core.result import EquilibriumInputError
 from .answers import InverseAnswer
 from .feeds import approach_kelvin, feed_ratio_spec, resolve_feed
@@ -175,29 +177,32 @@ def _object_array(items, shape):
     return arr.reshape(shape) if shape else arr[0]
 
 
-def _prepare(species, feed, key, target, reactions, approach, database, extra=()):
+def _prepare(species, feed, key, target, reactions, approach, database, n_scan, extra=()):
+    """Checked common inputs of the three questions (EquilibriumInputError naming the
+    argument otherwise)."""
     db = database or bundled_database()
+    whole_number(n_scan, "n_scan", 2)
     dT = approach_kelvin(approach)
-    base = resolve_feed(feed, db)
+    base = resolve_feed(feed_mapping(feed), db)
+    if not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be the name of the key reactant (text), got {key!r}")
     key = db.resolve(key)
-    rxns = tuple(Reaction.parse(r, db) if isinstance(r, str) else r for r in (reactions or ()))
-    names = _species_list(species, base, rxns, db, extra)
+    rxns = reaction_list(reactions, db)
+    names = _species_list(species_names(species), base, rxns, db, extra)
     if key not in names:
         raise EquilibriumInputError(f"key reactant {key!r} is not among the species {names}")
     if base.get(key, 0.0) <= 0 and key not in extra:
         raise EquilibriumInputError(f"the key reactant {key} must be in the feed")
-    target = np.asarray(to_si(target, "dimensionless"), dtype=float)
-    if np.any(~np.isfinite(target)) or np.any(target >= 1):
-        raise EquilibriumInputError("target conversion must be finite and below 1")
+    target = conversion_targets(target)
     return db, dT, base, key, rxns, names, target
 
 
-def _range(rng, kind, what):
-    try:
-        lo, hi = rng
-    except (TypeError, ValueError):
-        raise EquilibriumInputError(f"{what}: give (low, high)") from None
-    lo, hi = float(to_si(lo, kind)), float(to_si(hi, kind))
+def _range(rng, kind, what, reader=None):
+    """A search range (low, high) in SI, 0 < low < high, both finite."""
+    if isinstance(rng, (str, bytes)) or not isinstance(rng, (tuple, list, np.ndarray)) or len(rng) != 2:
+        raise EquilibriumInputError(f"{what}: give (low, high), got {rng!r}")
+    read = reader or (lambda v: to_si(v, kind))
+    lo, hi = (float(quantity(read(v), "dimensionless", what)) for v in rng)
     if not (0 < lo < hi) or not np.isfinite(hi):
         raise EquilibriumInputError(f"{what}: need 0 < low < high, got ({lo:g}, {hi:g})")
     return lo, hi
@@ -340,7 +345,7 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     key : str
         Key reactant.
     target : float | array_like
-        Wanted conversion of ``key`` [-] (below 1).
+        Wanted conversion of ``key`` [-], strictly between 0 and 1.
     T_range : (T_low, T_high)
         Search range [K] (numbers or strings such as ``"300 degC"``).
     reactions : sequence of str, optional
@@ -368,14 +373,15 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     >>> round(ans.T, 1), ans.reached
     (833.2, True)
     """
-    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach, database)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    shape = np.broadcast_shapes(P_arr.shape, target.shape)
+    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach,
+                                                      database, n_scan)
+    P_arr = pressures(P)
+    shape = broadcast_shape(P=P_arr, target=target)
     P_c = np.broadcast_to(P_arr, shape).reshape(-1)
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(P_c <= 0):
         raise EquilibriumInputError("pressures must be above 0 Pa")
-    lo, hi = _range((to_kelvin(T_range[0]), to_kelvin(T_range[1])), "temperature", "T_range")
+    lo, hi = _range(T_range, "temperature", "T_range", reader=to_kelvin)
     if dT and lo - dT <= 0:
         raise EquilibriumInputError("T_range minus the approach must stay above 0 K")
     feed_c = {k: np.float64(v) for k, v in base.items()}
@@ -454,9 +460,10 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
     >>> round(ans.P / 1e5, 1)
     146.1
     """
-    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach, database)
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, target.shape)
+    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach,
+                                                      database, n_scan)
+    T_arr = temperatures(T)
+    shape = broadcast_shape(T=T_arr, target=target)
     T_c = np.broadcast_to(T_arr, shape).reshape(-1).astype(float)
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(T_c <= 0) or (dT and np.any(T_c - dT <= 0)):
@@ -532,10 +539,10 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
     db = database or bundled_database()
     spec = feed_ratio_spec(ratio, db)
     db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach, db,
-                                                      extra=(spec.numerator,))
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, target.shape)
+                                                      n_scan, extra=(spec.numerator,))
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    shape = broadcast_shape(T=T_arr, P=P_arr, target=target)
     T_c = np.broadcast_to(T_arr, shape).reshape(-1).astype(float)
     P_c = np.broadcast_to(P_arr, shape).reshape(-1).astype(float)
     tg = np.broadcast_to(target, shape).reshape(-1).copy()

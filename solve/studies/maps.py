@@ -26,8 +26,9 @@ from typing import Callable, Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.reactions import Reaction, bundled_database
+from ...thermo.reactions import bundled_database
 from ..core.equilibrium import equilibrium
+from ..core.inputs import feed_mapping, reaction_list, species_names, whole_number
 from ..core.result import EquilibriumInputError, EquilibriumResult, NotConvergedWarning
 from .carbon import carbon_activity
 from .feeds import (DEFAULT_CHUNK, FeedRatio, STEAM, apply_inert, approach_kelvin, approach_side,
@@ -306,16 +307,17 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
     """
     db = database or bundled_database()
     dT = approach_kelvin(approach)
-    if chunk < 1:
-        raise EquilibriumInputError("chunk must be a positive number of points")
-    base = resolve_feed(feed, db)
+    whole_number(chunk, "chunk", 1)
+    base = resolve_feed(feed_mapping(feed), db)
+    if not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be the name of the key reactant (text), got {key!r}")
     key = db.resolve(key)
     names: list[str] = []
-    for n in list(species) + list(base):
+    for n in species_names(species) + list(base):
         r = db.resolve(n)
         if r not in names:
             names.append(r)
-    rxns = tuple(Reaction.parse(r, db) if isinstance(r, str) else r for r in (reactions or ()))
+    rxns = reaction_list(reactions, db)
     for r in rxns:
         for n in r.names:
             if n not in names:

@@ -39,6 +39,7 @@ engineering practice.
 """
 from __future__ import annotations
 
+import numbers
 import statistics
 import warnings
 from dataclasses import dataclass, field
@@ -53,8 +54,9 @@ from ...thermo.database import SpeciesDatabase
 from ...thermo.models import R
 from ...thermo.reactions import Reaction, ReactionLevelData, bundled_database
 from ...thermo.species import Species
-from ...thermo.units import to_kelvin, to_pascal
+from ...thermo.units import to_kelvin
 from ..core.equilibrium import equilibrium
+from ..core.inputs import pressures, temperatures
 from .feeds import approach_kelvin, approach_side, approach_temperatures
 
 
@@ -202,13 +204,21 @@ def _z(level: float) -> float:
     return statistics.NormalDist().inv_cdf(0.5 + level / 2.0)
 
 
-def _check_method(method: str, samples: int, level: float):
+def check_method(method: str, samples: int, level: float, seed=None):
+    """Refuse (UncertaintyInputError) an unknown method, a coverage ``level`` outside
+    [0.5, 1), a Monte Carlo ``samples`` that is not a whole number from 20 to 100000, or a
+    ``seed`` that is neither None nor a whole number."""
     if method not in METHODS:
         raise UncertaintyInputError(f"method {method!r}: use one of {', '.join(METHODS)}")
-    if not (0.5 <= float(level) < 1.0):
+    if (isinstance(level, (bool, np.bool_)) or not isinstance(level, numbers.Real)
+            or not (0.5 <= float(level) < 1.0)):
         raise UncertaintyInputError(f"level {level!r}: give a coverage probability from 0.5 to below 1, e.g. 0.95")
-    if method == "monte-carlo" and (int(samples) != samples or not 20 <= samples <= 100_000):
+    if method == "monte-carlo" and (isinstance(samples, (bool, np.bool_)) or not isinstance(samples, numbers.Integral)
+                                    or not 20 <= samples <= 100_000):
         raise UncertaintyInputError(f"samples {samples!r}: give a whole number from 20 to 100000")
+    if seed is not None and (isinstance(seed, (bool, np.bool_)) or not isinstance(seed, numbers.Integral)
+                             or seed < 0):
+        raise UncertaintyInputError(f"seed {seed!r}: give None or a whole number >= 0")
 
 
 _HUGE = 1e300
@@ -554,13 +564,13 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
     >>> r.ranking()[0].datum.label
     'ΔfH°(NH3)'
     """
-    _check_method(method, samples, level)
+    check_method(method, samples, level, seed)
     db = database or bundled_database()
     dT = _approach(approach)
     if dT and key is None:
         raise UncertaintyInputError("an approach needs the key reactant (key=...) to choose its side")
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
     res0 = equilibrium(species, feed, T_arr, P_arr, reactions=reactions, gas_model=gas_model, key=key,
                        database=db, binary_interaction=binary_interaction, warn=False)
     names = list(res0.species)
