@@ -27,7 +27,7 @@ from .fugacity import FugacityModel
 from .inputs import (broadcast_shape, feed_mapping, mapping_or_none, positive_number, pressures, quantity,
                      reaction_list, species_names, temperatures, whole_number)
 from .newton import CoreOutcome, initial_state, minimise_gibbs
-from .problem import (_linear_estimate, _reachable, _row_basis, element_matrix, invariant_basis,
+from .problem import (element_matrix, invariant_basis, linear_estimate, reachable_species, row_basis,
                       stoichiometric_matrix)
 from .result import (CondensationWarning, EquilibriumInputError, EquilibriumResult, GAS_MODELS,
                      NotConvergedWarning)
@@ -221,13 +221,13 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     for code, i0 in first.items():
         pattern = present_feed[i0]
         rows = np.arange(n_points) if len(first) == 1 else np.flatnonzero(codes == code)
-        reach = _reachable(C, pattern.astype(float), nonneg)
+        reach = reachable_species(C, pattern.astype(float), nonneg)
         gas_cols = np.flatnonzero(reach & is_gas)
         cond_cols = np.flatnonzero(reach & ~is_gas)
         if gas_cols.size == 0:
             raise EquilibriumInputError("no gas species can be present; add a gas species")
         cols = np.concatenate([gas_cols, cond_cols])
-        basis = _row_basis(C[:, cols])
+        basis = row_basis(C[:, cols])
         scale = total_feed[rows]
         b = (n0[rows][:, cols] / scale[:, None]) @ basis.T
         A_gas = basis[:, :gas_cols.size]
@@ -265,7 +265,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
             # could not replace
             bad = np.flatnonzero(~out.converged)
             if bad.size:
-                retry = _linear_estimate(g0[rows][bad][:, cols], basis, b[bad], gas_cols.size)
+                retry = linear_estimate(g0[rows][bad][:, cols], basis, b[bad], gas_cols.size)
                 fug2 = None
                 if eos is not None:
                     def fug2(sub, y, _gi=gas_index, _T=Tf[rows][bad], _P=Pf[rows][bad]):

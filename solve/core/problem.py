@@ -47,7 +47,7 @@ def invariant_basis(N: np.ndarray, tol: float = 1e-10) -> np.ndarray:
     return u[:, rank:].T.copy()
 
 
-def _row_basis(C: np.ndarray, tol: float = 1e-10) -> np.ndarray:
+def row_basis(C: np.ndarray, tol: float = 1e-10) -> np.ndarray:
     if C.size == 0:
         return C
     u, s, vt = np.linalg.svd(C, full_matrices=False)
@@ -55,7 +55,7 @@ def _row_basis(C: np.ndarray, tol: float = 1e-10) -> np.ndarray:
     return vt[:rank]
 
 
-def _reachable(C: np.ndarray, n0: np.ndarray, nonneg: bool) -> np.ndarray:
+def reachable_species(C: np.ndarray, n0: np.ndarray, nonneg: bool) -> np.ndarray:
     """Species that can be positive in some state with C n = C n0, n >= 0."""
     ns = C.shape[1]
     if nonneg:   # element mode: a species may form iff each of its elements is present
@@ -71,7 +71,7 @@ def _reachable(C: np.ndarray, n0: np.ndarray, nonneg: bool) -> np.ndarray:
     return ok
 
 
-def _linear_estimate(g0: np.ndarray, C: np.ndarray, b: np.ndarray, n_gas: int) -> CoreState:
+def linear_estimate(g0: np.ndarray, C: np.ndarray, b: np.ndarray, n_gas: int) -> CoreState:
     """Starting states from ``min Σ g°_j n_j  s.t.  C n = b, n >= 0`` (one small linear
     program per state; used only for states that failed from the usual starts)."""
     p, ns = g0.shape

@@ -17,12 +17,12 @@ from ..core.inputs import (conversion_targets, feed_mapping, pressures, species_
                            whole_number)
 from ..core.result import EquilibriumInputError
 from .adiabatic import CAUTION, adiabatic_equilibrium
-from .enthalpy import _MixtureEnthalpy, _records_for
+from .enthalpy import MixtureEnthalpy, records_for
 from .feeds import resolve_feed
 
 
 # ====================================================================== staged adiabatic beds
-def _frozen_temperature(model: _MixtureEnthalpy, amounts, H_target, P, T_guess,
+def _frozen_temperature(model: MixtureEnthalpy, amounts, H_target, P, T_guess,
                         tolerance: float = 1e-12, max_iterations: int = 60):
     """Temperature [K] at which mixtures of fixed composition have enthalpy ``H_target`` [J].
 
@@ -306,7 +306,7 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
         ad = adiabatic_equilibrium(names, current, T_b, P_f, **common)
         if model is None:
             all_names = list(ad.equilibrium.species)
-            model = _MixtureEnthalpy(_records_for(all_names, db), gas_model, binary_interaction)
+            model = MixtureEnthalpy(records_for(all_names, db), gas_model, binary_interaction)
         if not ad.all_converged:
             message_extra = (f" Bed {b + 1}: the adiabatic equilibrium did not converge "
                              f"({ad.message}); stopped.")

@@ -14,7 +14,7 @@ from ..core.inputs import broadcast_shape, feed_mapping, pressures, species_name
 from ..core.result import EquilibriumInputError
 from .carbon import carbon_activity
 from .feeds import FeedRatio, STEAM, feed_ratio_spec, resolve_feed
-from .inverse import BATCH, _range, _species_list
+from .inverse import BATCH, search_range, species_list
 from .roots import bracketed_roots
 
 
@@ -115,7 +115,7 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     else:
         spec = FeedRatio(STEAM, "carbon")
         values = steam_to_carbon
-    names = [n for n in _species_list(species, base, (), db, (spec.numerator,)) if db[n].is_gas]
+    names = [n for n in species_list(species, base, (), db, (spec.numerator,)) if db[n].is_gas]
     if not any(db[n].elements.get("C", 0) > 0 for n in names):
         raise EquilibriumInputError("no carbon-containing gas species: graphite cannot form")
     spec.checked_basis(base, db)
@@ -124,7 +124,7 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     shape = broadcast_shape(T=T_arr, P=P_arr)
     T_c = np.broadcast_to(T_arr, shape).reshape(-1)
     P_c = np.broadcast_to(P_arr, shape).reshape(-1)
-    lo, hi = _range(ratio_range, "dimensionless", "ratio_range")
+    lo, hi = search_range(ratio_range, "dimensionless", "ratio_range")
     S = T_c.size
 
     def ln_a_c(u, case):

@@ -18,7 +18,7 @@ from ..core.result import EquilibriumInputError, EquilibriumResult
 
 
 # ====================================================================== enthalpy models
-class _MixtureEnthalpy:
+class MixtureEnthalpy:
     """Enthalpy of a mixture of fixed species: ideal gas plus pure condensed species,
     optionally with the Peng-Robinson residual enthalpy of the gas."""
 
@@ -100,7 +100,7 @@ class _MixtureEnthalpy:
         return c
 
 
-def _records_for(names, db: SpeciesDatabase):
+def records_for(names, db: SpeciesDatabase):
     return [db.species[db.resolve(n)] for n in names]
 
 
@@ -139,13 +139,13 @@ def mixture_enthalpy(result: EquilibriumResult, *, database: SpeciesDatabase | N
     1.9359 mol, -88.93 kJ
     """
     db = database or bundled_database()
-    model = _MixtureEnthalpy(_records_for(result.species, db), result.gas_model, binary_interaction)
+    model = MixtureEnthalpy(records_for(result.species, db), result.gas_model, binary_interaction)
     T = np.asarray(result.T, dtype=float)
     H = model.total(np.asarray(result.amount_array, dtype=float), T, np.asarray(result.P, dtype=float))
     return float(H) if np.ndim(H) == 0 else H
 
 
-def _broadcast_inputs(db, species, feed, T, P, T_other=None):
+def broadcast_inputs(db, species, feed, T, P, T_other=None):
     """Resolve names and broadcast feed, T [K], P [Pa] (and a second temperature [K]);
     returns names, shape, flat T, flat P, feed amounts (p, n_species) and flat T_other."""
     feed = feed_mapping(feed)
@@ -211,8 +211,8 @@ def feed_enthalpy(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     21.46
     """
     db = database or bundled_database()
-    names, shape, T_f, P_f, n0, _ = _broadcast_inputs(db, species, feed, T, P)
-    model = _MixtureEnthalpy(_records_for(names, db), gas_model, binary_interaction)
+    names, shape, T_f, P_f, n0, _ = broadcast_inputs(db, species, feed, T, P)
+    model = MixtureEnthalpy(records_for(names, db), gas_model, binary_interaction)
     H = model.total(n0, T_f, P_f).reshape(shape)
     return float(H) if H.ndim == 0 else H
 
@@ -254,10 +254,10 @@ def isothermal_duty(species: Sequence[str], feed: Mapping[str, object], T_in, T,
     db = equilibrium_kwargs.get("database") or bundled_database()
     gas_model = equilibrium_kwargs.get("gas_model", "ideal")
     kij = equilibrium_kwargs.get("binary_interaction")
-    names, shape, T_in_f, P_f, n0, T_f = _broadcast_inputs(db, species, feed, T_in, P, T_other=T)
+    names, shape, T_in_f, P_f, n0, T_f = broadcast_inputs(db, species, feed, T_in, P, T_other=T)
     feed_flat = {n: n0[:, k] for k, n in enumerate(names) if np.any(n0[:, k] > 0)}
     res = equilibrium(names, feed_flat, T_f, P_f, **equilibrium_kwargs)
-    model = _MixtureEnthalpy(_records_for(res.species, db), gas_model, kij)
+    model = MixtureEnthalpy(records_for(res.species, db), gas_model, kij)
     n_in = np.zeros((T_f.size, len(res.species)))
     n_in[:, [res.species.index(n) for n in names]] = n0
     Q = (model.total(res.amount_array, T_f, P_f) - model.total(n_in, T_in_f, P_f)).reshape(shape)
@@ -265,7 +265,7 @@ def isothermal_duty(species: Sequence[str], feed: Mapping[str, object], T_in, T,
 
 
 # ====================================================================== temperature derivatives
-def _conservation_matrix(result: EquilibriumResult, records) -> np.ndarray:
+def conservation_matrix(result: EquilibriumResult, records) -> np.ndarray:
     """Rows conserved by the result's problem: element counts, or reaction invariants."""
     if result.reactions:
         names = list(result.species)
@@ -277,7 +277,7 @@ def _conservation_matrix(result: EquilibriumResult, records) -> np.ndarray:
     return element_matrix(records)[1]
 
 
-def _composition_temperature_derivative(amounts, h, T, C, is_gas):
+def composition_temperature_derivative(amounts, h, T, C, is_gas):
     """d n_j / dT [mol/K] of an equilibrium mixture at fixed P and conserved ``C n``.
 
     Ideal gas plus pure condensed species (those present, n > 0); the linear system is

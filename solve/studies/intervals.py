@@ -18,12 +18,13 @@ from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
 from ..core.equilibrium import equilibrium
-from .feeds import feed_ratio_spec
 from .answers import InverseAnswer
+from .feeds import feed_ratio_spec
 from .inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
 from .roots import bracketed_roots
-from .uncertainty import (ASSUMPTIONS, ROOT_FTOL, ROOT_XTOL, T_STEP, _System, check_method, _dY_dg,
-                          _percent_labels, _quantiles, _ranking, _shape_out, _system, _z, parameter_map)
+from .uncertainty import (ASSUMPTIONS, BatchedSystem, ROOT_FTOL, ROOT_XTOL, T_STEP, batched_system,
+                          check_method, coverage_factor, output_gibbs_derivatives, parameter_map,
+                          percent_labels, quantiles, rank_data, shape_out)
 
 
 # =========================================================================== inverse: temperature
@@ -34,7 +35,7 @@ class _AnswerRanking:
         """Data ranked by their share of the answer's variance (averaged over the questions
         unless ``at`` picks one)."""
         c = self.sensitivity if at is None else self.sensitivity[at]
-        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
+        return rank_data(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
 
 
 @dataclass(frozen=True)
@@ -113,7 +114,7 @@ class TemperatureUncertainty(_AnswerRanking, InverseAnswer):
 
     def rows(self) -> list[dict]:
         """One row per question, headers carrying units."""
-        lo, hi = _percent_labels(self.level)
+        lo, hi = percent_labels(self.level)
         cols = {f"target conversion {self.key} [-]": self.target, "P [Pa]": self.P, "T [K]": self.T,
                 f"T {lo} [K]": self.lower, "T median [K]": self.median, f"T {hi} [K]": self.upper,
                 "u(T) [K]": self.standard_uncertainty, "draws beyond range [-]": self.beyond_range}
@@ -185,7 +186,7 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
                             key=key_r, database=db, warn=False)
     names = list(res_probe.species)
     feed_one = np.asarray(res_probe.feed_array, dtype=float)[None, :]
-    system = _system(species, feed_one, names, res_probe.gas_mask, key=key_r, reactions=res_probe.reactions,
+    system = batched_system(species, feed_one, names, res_probe.gas_mask, key=key_r, reactions=res_probe.reactions,
                      gas_model=gas_model, database=db, binary_interaction=None)
     pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
 
@@ -221,7 +222,7 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
     T_nom = np.where(reached, T_eq_ref - side * dT, np.nan)
     found = _inverse_interval(
         conversion_at,
-        lambda rows: _dY_dg(_system_for_cases(system, P_c[rows]), T_eq_ref[rows], P_c[rows])[:, 0, :],
+        lambda rows: output_gibbs_derivatives(_system_for_cases(system, P_c[rows]), T_eq_ref[rows], P_c[rows])[:, 0, :],
         T_eq_ref, crossing, tg, T_eq_ref, lo + side * dT, hi + side * dT, pm, method=method,
         samples=samples, seed=seed, level=level, x_step=T_STEP, min_width=0.5,
         temperature_of=lambda x, cases: x)
@@ -245,12 +246,12 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
         msg += "; no interval where the nominal answer is the end of the search range (no crossing of the target)"
     full = [f"{msg}; {ASSUMPTIONS}; nominal: {t}" for t in messages]
     return TemperatureUncertainty(
-        T=_shape_out(T_nom, shape), lower=_shape_out(lower, shape), median=_shape_out(median, shape),
-        upper=_shape_out(upper, shape), standard_uncertainty=_shape_out(std, shape),
-        reached=_shape_out(reached, shape), beyond_range=_shape_out(beyond, shape), P=_shape_out(P_c, shape),
-        target=_shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
+        T=shape_out(T_nom, shape), lower=shape_out(lower, shape), median=shape_out(median, shape),
+        upper=shape_out(upper, shape), standard_uncertainty=shape_out(std, shape),
+        reached=shape_out(reached, shape), beyond_range=shape_out(beyond, shape), P=shape_out(P_c, shape),
+        target=shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
         seed=seed if method == "monte-carlo" else None, sensitivity=sens.reshape(shape + (len(pm.data),)),
-        data=pm.data, sample_T=sample_T, n_failed=_shape_out(n_failed, shape), approach=dT or None, T_range=(lo, hi),
+        data=pm.data, sample_T=sample_T, n_failed=shape_out(n_failed, shape), approach=dT or None, T_range=(lo, hi),
         message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
         at_range_end=nominal.at_range_end)
 
@@ -340,7 +341,7 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
         sigma[rc] = np.sqrt(((sens[rc] * u) ** 2).sum(axis=-1))
     out = dict(sens=sens, sigma=sigma, beyond=np.zeros(m), n_failed=np.zeros(m, dtype=int), samples=None)
     if method == "linear":
-        z = _z(level)
+        z = coverage_factor(level)
         out.update(lower=x0 - z * sigma, median=x0.copy(), upper=x0 + z * sigma, spread=sigma)
         return out
     rng = np.random.default_rng(seed)
@@ -388,7 +389,7 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
             roots[todo] = np.where(okr, xr, np.nan)
         roots = np.where(censored > 0, np.inf, np.where(censored < 0, -np.inf, roots))
         X[:, rc] = roots.reshape(S, r)
-    lower, median, upper = _quantiles(X, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
+    lower, median, upper = quantiles(X, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
         spread = np.nanstd(np.where(np.isfinite(X), X, np.nan), axis=0, ddof=1)
@@ -463,7 +464,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     key_r = db.resolve(key)
     probe = equilibrium(species, feed, float(np.nanmean(T_eq)), math.exp(0.5 * (lo + hi)), reactions=reactions,
                         gas_model=gas_model, key=key_r, database=db, warn=False)
-    system = _system(species, np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
+    system = batched_system(species, np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
                      probe.gas_mask, key=key_r, reactions=probe.reactions, gas_model=gas_model, database=db,
                      binary_interaction=None)
     pm = parameter_map(list(probe.species), database=db, overrides=overrides, defaults=defaults)
@@ -474,7 +475,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
 
     x0 = np.log(np.where(reached, P0, 1.0))
     found = _inverse_interval(
-        conversion_at, lambda rows: _dY_dg(_system_for_cases(system, P0[rows]), T_eq[rows], P0[rows])[:, 0, :],
+        conversion_at, lambda rows: output_gibbs_derivatives(_system_for_cases(system, P0[rows]), T_eq[rows], P0[rows])[:, 0, :],
         x0, reached, tg, T_eq, lo, hi, pm, method=method, samples=samples, seed=seed, level=level)
     with np.errstate(over="ignore"):
         lower, median, upper = (np.exp(found[k]) for k in ("lower", "median", "upper"))
@@ -482,14 +483,14 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     full = _interval_message(method, samples, seed, found, bool(np.any(np.isfinite(P0) & at_end)),
                              nominal.message)
     return PressureUncertainty(
-        P=_shape_out(np.where(reached, P0, np.nan), shape), lower=_shape_out(lower, shape),
-        median=_shape_out(median, shape), upper=_shape_out(upper, shape),
-        relative_uncertainty=_shape_out(found["spread"], shape), reached=_shape_out(reached, shape),
-        beyond_range=_shape_out(found["beyond"], shape), T=_shape_out(T_op, shape),
-        target=_shape_out(tg, shape), key=key_r, method=method, level=float(level),
+        P=shape_out(np.where(reached, P0, np.nan), shape), lower=shape_out(lower, shape),
+        median=shape_out(median, shape), upper=shape_out(upper, shape),
+        relative_uncertainty=shape_out(found["spread"], shape), reached=shape_out(reached, shape),
+        beyond_range=shape_out(found["beyond"], shape), T=shape_out(T_op, shape),
+        target=shape_out(tg, shape), key=key_r, method=method, level=float(level),
         samples=samples if method == "monte-carlo" else 0, seed=seed if method == "monte-carlo" else None,
         sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_P=sample_P,
-        n_failed=_shape_out(found["n_failed"], shape), P_range=(math.exp(lo), math.exp(hi)),
+        n_failed=shape_out(found["n_failed"], shape), P_range=(math.exp(lo), math.exp(hi)),
         message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
         at_range_end=nominal.at_range_end)
 
@@ -580,7 +581,7 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
         rows = np.zeros((np.size(x), len(names)))
         for k, v in fed.items():
             rows[:, names.index(k)] = np.broadcast_to(v, np.shape(x))
-        return _system(species_all, rows, names, probe.gas_mask, key=key_r, reactions=probe.reactions,
+        return batched_system(species_all, rows, names, probe.gas_mask, key=key_r, reactions=probe.reactions,
                        gas_model=gas_model, database=db, binary_interaction=None)
 
     def conversion_at(x, cases, shift):
@@ -590,7 +591,7 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
 
     x0 = np.log(np.where(reached, r0, 1.0))
     found = _inverse_interval(
-        conversion_at, lambda rows: _dY_dg(system_for(x0[rows]), T_eq[rows], P_c[rows])[:, 0, :],
+        conversion_at, lambda rows: output_gibbs_derivatives(system_for(x0[rows]), T_eq[rows], P_c[rows])[:, 0, :],
         x0, reached, tg, T_eq, lo, hi, pm, method=method, samples=samples, seed=seed, level=level)
     with np.errstate(over="ignore"):
         lower, median, upper = (np.exp(found[k]) for k in ("lower", "median", "upper"))
@@ -598,22 +599,22 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
     full = _interval_message(method, samples, seed, found, bool(np.any(np.isfinite(r0) & at_end)),
                              nominal.message)
     return FeedRatioUncertainty(
-        ratio=_shape_out(np.where(reached, r0, np.nan), shape), lower=_shape_out(lower, shape),
-        median=_shape_out(median, shape), upper=_shape_out(upper, shape),
-        relative_uncertainty=_shape_out(found["spread"], shape), reached=_shape_out(reached, shape),
-        beyond_range=_shape_out(found["beyond"], shape), T=_shape_out(T_op, shape), P=_shape_out(P_c, shape),
-        target=_shape_out(tg, shape), key=key_r, ratio_name=nominal.ratio_name, method=method,
+        ratio=shape_out(np.where(reached, r0, np.nan), shape), lower=shape_out(lower, shape),
+        median=shape_out(median, shape), upper=shape_out(upper, shape),
+        relative_uncertainty=shape_out(found["spread"], shape), reached=shape_out(reached, shape),
+        beyond_range=shape_out(found["beyond"], shape), T=shape_out(T_op, shape), P=shape_out(P_c, shape),
+        target=shape_out(tg, shape), key=key_r, ratio_name=nominal.ratio_name, method=method,
         level=float(level), samples=samples if method == "monte-carlo" else 0,
         seed=seed if method == "monte-carlo" else None,
         sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_ratio=sample_r,
-        n_failed=_shape_out(found["n_failed"], shape),
+        n_failed=shape_out(found["n_failed"], shape),
         message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
         at_range_end=nominal.at_range_end)
 
 
-def _system_for_cases(system: _System, P_cases) -> _System:
+def _system_for_cases(system: BatchedSystem, P_cases) -> BatchedSystem:
     """The system with one feed row per case (the inverse questions share one feed)."""
     n = np.size(P_cases)
-    return _System(system.names, {k: np.broadcast_to(v[:1], (n,)).copy() for k, v in system.feed.items()},
+    return BatchedSystem(system.names, {k: np.broadcast_to(v[:1], (n,)).copy() for k, v in system.feed.items()},
                    system.gas_mask, system.key, system.reactions, system.gas_model, system.database,
                    system.binary_interaction)

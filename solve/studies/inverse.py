@@ -48,8 +48,8 @@ import numpy as np
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_si
-from ..core.inputs import (broadcast_shape, conversion_targets, feed_mapping, pressures, quantity, reaction_list,
-                           species_names, temperatures, whole_number)
+from ..core.inputs import (broadcast_shape, conversion_targets, feed_mapping, pressures, quantity,
+                           reaction_list, species_names, temperatures, whole_number)
 from ..core.result import EquilibriumInputError
 from .answers import InverseAnswer
 from .feeds import approach_kelvin, feed_ratio_spec, resolve_feed
@@ -62,7 +62,7 @@ BATCH = 20000
 
 
 # =========================================================================== helpers
-def _species_list(species, feed_names, rxns, db, extra=()) -> list[str]:
+def species_list(species, feed_names, rxns, db, extra=()) -> list[str]:
     names: list[str] = []
     for n in list(species) + list(feed_names) + list(extra):
         r = db.resolve(n)
@@ -188,7 +188,7 @@ def _prepare(species, feed, key, target, reactions, approach, database, n_scan, 
         raise EquilibriumInputError(f"key must be the name of the key reactant (text), got {key!r}")
     key = db.resolve(key)
     rxns = reaction_list(reactions, db)
-    names = _species_list(species_names(species), base, rxns, db, extra)
+    names = species_list(species_names(species), base, rxns, db, extra)
     if key not in names:
         raise EquilibriumInputError(f"key reactant {key!r} is not among the species {names}")
     if base.get(key, 0.0) <= 0 and key not in extra:
@@ -197,7 +197,7 @@ def _prepare(species, feed, key, target, reactions, approach, database, n_scan, 
     return db, dT, base, key, rxns, names, target
 
 
-def _range(rng, kind, what, reader=None):
+def search_range(rng, kind, what, reader=None):
     """A search range (low, high) in SI, 0 < low < high, both finite."""
     if isinstance(rng, (str, bytes)) or not isinstance(rng, (tuple, list, np.ndarray)) or len(rng) != 2:
         raise EquilibriumInputError(f"{what}: give (low, high), got {rng!r}")
@@ -381,7 +381,7 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(P_c <= 0):
         raise EquilibriumInputError("pressures must be above 0 Pa")
-    lo, hi = _range(T_range, "temperature", "T_range", reader=to_kelvin)
+    lo, hi = search_range(T_range, "temperature", "T_range", reader=to_kelvin)
     if dT and lo - dT <= 0:
         raise EquilibriumInputError("T_range minus the approach must stay above 0 K")
     feed_c = {k: np.float64(v) for k, v in base.items()}
@@ -468,7 +468,7 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(T_c <= 0) or (dT and np.any(T_c - dT <= 0)):
         raise EquilibriumInputError("temperatures (minus the approach) must be above 0 K")
-    lo, hi = _range(P_range, "pressure", "P_range")
+    lo, hi = search_range(P_range, "pressure", "P_range")
     feed_c = {k: np.float64(v) for k, v in base.items()}
 
     def evaluate(u, case):
@@ -548,7 +548,7 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(T_c <= 0) or (dT and np.any(T_c - dT <= 0)) or np.any(P_c <= 0):
         raise EquilibriumInputError("temperatures (minus the approach) and pressures must be above zero")
-    lo, hi = _range(ratio_range, "dimensionless", "ratio_range")
+    lo, hi = search_range(ratio_range, "dimensionless", "ratio_range")
     spec.checked_basis(base, db)        # checks the denominator is fed
 
     def evaluate(u, case):

@@ -39,17 +39,17 @@ engineering practice.
 """
 from __future__ import annotations
 
-import numbers
 import statistics
 import warnings
 from dataclasses import dataclass, field
 from typing import Mapping, Sequence
 
+import numbers
 import numpy as np
 
 from ...thermo.data_uncertainty import (METHODS, REACTION_ENTHALPY, REACTION_ENTROPY, UncertainDatum,
-                                        UncertaintyDefaults, UncertaintyInputError, _bundled_defaults,
-                                        _kinds_of, _normalise_overrides, _read_u, species_uncertainty)
+                                        UncertaintyDefaults, UncertaintyInputError, bundled_defaults,
+                                        kinds_of, normalise_overrides, read_u, species_uncertainty)
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import R
 from ...thermo.reactions import Reaction, ReactionLevelData, bundled_database
@@ -166,8 +166,8 @@ def parameter_map(species: Sequence[str], *, database: SpeciesDatabase | None = 
         r = db.resolve(n)
         if r not in names:
             names.append(r)
-    user = _normalise_overrides(overrides, db)
-    defaults = defaults or _bundled_defaults()
+    user = normalise_overrides(overrides, db)
+    defaults = defaults or bundled_defaults()
     order: list[tuple[str, str]] = []
     data: dict[tuple[str, str], UncertainDatum] = {}
     columns: list[dict] = []
@@ -175,7 +175,7 @@ def parameter_map(species: Sequence[str], *, database: SpeciesDatabase | None = 
     def expand(sp: Species, coef: float, acc: dict, depth: int = 0):
         if depth > 20:
             raise UncertaintyInputError(f"species {sp.name}: reaction-level definitions nest too deeply")
-        kinds = _kinds_of(sp)
+        kinds = kinds_of(sp)
         if (sp.name, kinds[0]) not in data:
             for k, d in species_uncertainty(sp, overrides=user.get(sp.name), defaults=defaults).items():
                 data[(sp.name, k)] = d
@@ -200,7 +200,7 @@ def parameter_map(species: Sequence[str], *, database: SpeciesDatabase | None = 
 
 
 # =========================================================================== statistics helpers
-def _z(level: float) -> float:
+def coverage_factor(level: float) -> float:
     return statistics.NormalDist().inv_cdf(0.5 + level / 2.0)
 
 
@@ -224,7 +224,7 @@ def check_method(method: str, samples: int, level: float, seed=None):
 _HUGE = 1e300
 
 
-def _quantiles(values: np.ndarray, qs: Sequence[float]) -> np.ndarray:
+def quantiles(values: np.ndarray, qs: Sequence[float]) -> np.ndarray:
     """Quantiles along axis 0 ignoring NaN (failed solves); ±inf (censored: beyond the search
     range) count as samples and give ±inf where a quantile falls among them."""
     v = np.where(np.isposinf(values), _HUGE, np.where(np.isneginf(values), -_HUGE, values))
@@ -235,7 +235,7 @@ def _quantiles(values: np.ndarray, qs: Sequence[float]) -> np.ndarray:
     return q
 
 
-def _share_rows(c: np.ndarray, u: np.ndarray):
+def share_rows(c: np.ndarray, u: np.ndarray):
     contrib = (c * u) ** 2
     total = contrib.sum(axis=-1, keepdims=True)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -267,14 +267,14 @@ class RankedDatum:
     share: float
 
 
-def _ranking(data, c: np.ndarray, u: np.ndarray, by: str) -> tuple:
+def rank_data(data, c: np.ndarray, u: np.ndarray, by: str) -> tuple:
     """Ranking from sensitivities c of shape (n_states, n_data) (shares averaged over states)."""
     c = np.atleast_2d(c)
     ok = np.all(np.isfinite(c), axis=1)
     if not ok.any():
         return ()
     c = c[ok]
-    contrib, share = _share_rows(c, u)
+    contrib, share = share_rows(c, u)
     mean_share = share.mean(axis=0)
     mean_contrib = np.sqrt(contrib.mean(axis=0))
     mean_c = c.mean(axis=0)
@@ -297,7 +297,7 @@ def _ranking(data, c: np.ndarray, u: np.ndarray, by: str) -> tuple:
 
 # =========================================================================== batched solving
 @dataclass(frozen=True)
-class _System:
+class BatchedSystem:
     names: tuple
     feed: dict                 # name -> (p,) feed amounts per state
     gas_mask: np.ndarray
@@ -354,22 +354,22 @@ class _System:
         return names
 
 
-def _system(species, feed_by_state: np.ndarray, names, gas_mask, *, key, reactions, gas_model, database,
-            binary_interaction) -> _System:
+def batched_system(species, feed_by_state: np.ndarray, names, gas_mask, *, key, reactions, gas_model, database,
+            binary_interaction) -> BatchedSystem:
     fa = feed_by_state.reshape(-1, len(names))
     feed = {names[j]: fa[:, j].copy() for j in range(len(names)) if np.any(fa[:, j] > 0)}
-    return _System(tuple(names), feed, gas_mask, key, tuple(reactions or ()), gas_model, database, binary_interaction)
+    return BatchedSystem(tuple(names), feed, gas_mask, key, tuple(reactions or ()), gas_model, database, binary_interaction)
 
 
-def _g_steps(T: np.ndarray) -> np.ndarray:
+def g_steps(T: np.ndarray) -> np.ndarray:
     return G_STEP * R * np.asarray(T, dtype=float)
 
 
-def _dY_dg(system: _System, T, P) -> np.ndarray:
+def output_gibbs_derivatives(system: BatchedSystem, T, P) -> np.ndarray:
     """Central differences ∂Y/∂g°_j at flat states T, P (p,): shape (p, n_q, ns) [per J/mol]."""
     T = np.asarray(T, dtype=float)
     p, ns = T.size, len(system.names)
-    h = _g_steps(T)                                       # (p,)
+    h = g_steps(T)                                       # (p,)
     sign = np.array([1.0, -1.0])
     # rows: (species j, sign, state)
     shift = np.zeros((ns, 2, p, ns))
@@ -473,7 +473,7 @@ class EquilibriumUncertainty:
         """
         c = np.asarray(self.sensitivity[self._q(quantity)])
         c = c[at] if at is not None else c
-        return _ranking(self.data, c.reshape(-1, len(self.data)), np.array([d.u for d in self.data]), by)
+        return rank_data(self.data, c.reshape(-1, len(self.data)), np.array([d.u for d in self.data]), by)
 
     def band(self, quantity: str | None = None) -> "Band":
         """Band data for a plot of ``quantity`` against the operating temperature."""
@@ -491,7 +491,7 @@ class EquilibriumUncertainty:
         """Interval columns for a table, headers carrying units: ``"<q> [-]"`` (nominal),
         ``"<q> 2.5 % [-]"``, ``"<q> median [-]"``, ``"<q> 97.5 % [-]"``, ``"u(<q>) [-]"``."""
         q = self._q(quantity)
-        lo, hi = _percent_labels(self.level)
+        lo, hi = percent_labels(self.level)
         return {f"{q} [-]": self.nominal[q], f"{q} {lo} [-]": self.lower[q], f"{q} median [-]": self.median[q],
                 f"{q} {hi} [-]": self.upper[q], f"u({q}) [-]": self.standard_uncertainty[q]}
 
@@ -508,7 +508,7 @@ class EquilibriumUncertainty:
         return [{k: float(v[i]) for k, v in flat.items()} for i in range(n)]
 
 
-def _percent_labels(level: float) -> tuple[str, str]:
+def percent_labels(level: float) -> tuple[str, str]:
     lo = 50.0 * (1.0 - level)
     return f"{lo:.3g} %", f"{100.0 - lo:.3g} %"
 
@@ -577,7 +577,7 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
     shape = res0.shape
     p = int(np.prod(shape)) if shape else 1
     key_r = db.resolve(key) if key else None
-    system = _system(species, res0.feed_array, names, res0.gas_mask, key=key_r, reactions=res0.reactions,
+    system = batched_system(species, res0.feed_array, names, res0.gas_mask, key=key_r, reactions=res0.reactions,
                      gas_model=gas_model, database=db, binary_interaction=binary_interaction)
     T_op = np.broadcast_to(T_arr, shape).reshape(-1)
     P_f = np.broadcast_to(P_arr, shape).reshape(-1)
@@ -596,14 +596,14 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
     pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
     u = pm.u
     # sensitivities (both methods): ∂Y/∂θ_k = Σ_j ∂Y/∂g_j ∂g_j/∂θ_k
-    dYdg = _dY_dg(system, T_eq, P_f)                        # (p, nq, ns)
+    dYdg = output_gibbs_derivatives(system, T_eq, P_f)                        # (p, nq, ns)
     chain = pm.chain_factors(T_eq)                                       # (p, nd, ns)
     sens = np.einsum("pqj,pkj->pqk", dYdg, chain)                        # (p, nq, nd)
     sigma_lin = np.sqrt(((sens * u) ** 2).sum(axis=-1))                  # (p, nq)
     samples_out = None
     n_failed = np.zeros(p, dtype=int)
     if method == "linear":
-        z = _z(level)
+        z = coverage_factor(level)
         lower, median, upper, std = Y0 - z * sigma_lin, Y0.copy(), Y0 + z * sigma_lin, sigma_lin
         n_samples = 0
         msg = "linearised propagation (GUM law of propagation of uncertainty)"
@@ -619,7 +619,7 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
         Ys = system.quantities(am, fe).reshape(samples, p, -1)            # (S, p, nq)
         n_failed = (~conv).reshape(samples, p).sum(axis=0)
         lo_q, hi_q = 0.5 - level / 2.0, 0.5 + level / 2.0
-        lower, median, upper = _quantiles(Ys, [lo_q, 0.5, hi_q])
+        lower, median, upper = quantiles(Ys, [lo_q, 0.5, hi_q])
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", RuntimeWarning)
             std = np.nanstd(Ys, axis=0, ddof=1)
@@ -630,19 +630,19 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
             msg += f"; {int(n_failed.sum())} draw-state(s) did not converge and are left out"
 
     def as_dict(a):
-        return {q: _shape_out(a[:, i], shape) for i, q in enumerate(qnames)}
+        return {q: shape_out(a[:, i], shape) for i, q in enumerate(qnames)}
 
     return EquilibriumUncertainty(
         method=method, level=float(level), samples=n_samples, seed=seed if method == "monte-carlo" else None,
-        T=_shape_out(T_op, shape), T_equilibrium=_shape_out(T_eq, shape), P=_shape_out(P_f, shape), key=key_r,
+        T=shape_out(T_op, shape), T_equilibrium=shape_out(T_eq, shape), P=shape_out(P_f, shape), key=key_r,
         quantities=tuple(qnames), nominal=as_dict(Y0), lower=as_dict(lower), median=as_dict(median),
         upper=as_dict(upper), standard_uncertainty=as_dict(std),
         sensitivity={q: sens[:, i, :].reshape(shape + (len(u),)) for i, q in enumerate(qnames)},
-        data=pm.data, sample_values=samples_out, n_failed=_shape_out(n_failed, shape), approach=dT,
+        data=pm.data, sample_values=samples_out, n_failed=shape_out(n_failed, shape), approach=dT,
         message=msg + "; " + ASSUMPTIONS)
 
 
-def _shape_out(x, shape):
+def shape_out(x, shape):
     x = np.asarray(x)
     return x.reshape(shape) if shape else x.reshape(()).item()
 
@@ -686,7 +686,7 @@ class LnKUncertainty:
     def ranking(self, *, at=None, by: str = "datum") -> tuple:
         """Data ranked by their share of Var ln K (averaged over T unless ``at`` is given)."""
         c = self.sensitivity if at is None else self.sensitivity[at]
-        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
+        return rank_data(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
 
 
 def ln_K_uncertainty(reaction: str | Reaction, T, *, database: SpeciesDatabase | None = None,
@@ -732,7 +732,7 @@ def ln_K_uncertainty(reaction: str | Reaction, T, *, database: SpeciesDatabase |
     u = pm.u
     su = np.sqrt(((sens * u) ** 2).sum(axis=-1))
     lnK = np.asarray(rxn.ln_K(T), dtype=float)
-    z = _z(level)
+    z = coverage_factor(level)
     f = (lambda a: float(a) if np.ndim(a) == 0 else a)   # noqa: E731
     return LnKUncertainty(T=f(T), ln_K=f(lnK), standard_uncertainty=f(su), K_lower=f(np.exp(lnK - z * su)),
                           K_upper=f(np.exp(lnK + z * su)), level=float(level), sensitivity=sens, data=pm.data)
@@ -773,8 +773,8 @@ def reaction_level_ln_K_uncertainty(data: ReactionLevelData, T, *, u_delta_h, u_
     >>> round(r.standard_uncertainty, 4)                 # 2000 / (R × 500)
     0.4811
     """
-    uh = _read_u(u_delta_h, REACTION_ENTHALPY, "u_delta_h")
-    us = _read_u(u_delta_s, REACTION_ENTROPY, "u_delta_s")
+    uh = read_u(u_delta_h, REACTION_ENTHALPY, "u_delta_h")
+    us = read_u(u_delta_s, REACTION_ENTROPY, "u_delta_s")
     if not -1.0 <= correlation <= 1.0:
         raise UncertaintyInputError(f"correlation {correlation!r}: give a coefficient from -1 to 1")
     T = np.asarray(to_kelvin(T), dtype=float)
@@ -783,7 +783,7 @@ def reaction_level_ln_K_uncertainty(data: ReactionLevelData, T, *, u_delta_h, u_
     var = (cH * uh) ** 2 + (cS * us) ** 2 + 2.0 * correlation * cH * cS * uh * us
     su = np.sqrt(np.maximum(var, 0.0))
     lnK = np.asarray(data.ln_K(T), dtype=float)
-    z = _z(level)
+    z = coverage_factor(level)
     label = data.text or "reaction"
     f = (lambda a: float(a) if np.ndim(a) == 0 else a)   # noqa: E731
     return LnKUncertainty(T=f(T), ln_K=f(lnK), standard_uncertainty=f(su), K_lower=f(np.exp(lnK - z * su)),
@@ -829,7 +829,7 @@ class Band:
 
     def rows(self) -> list[dict]:
         """The band as table rows, headers carrying units."""
-        lo, hi = _percent_labels(self.level)
+        lo, hi = percent_labels(self.level)
         q, un = self.quantity, self.unit
         return [{self.x_label: float(x), f"{q} [{un}]": float(n), f"{q} {lo} [{un}]": float(a),
                  f"{q} median [{un}]": float(md), f"{q} {hi} [{un}]": float(b)}
