@@ -83,3 +83,10 @@ class InverseAnswer:
     def status(self):
         """Per question: ``"reached"``, ``"search-range end"`` or ``"not reachable"``."""
         return answer_status(self.reached, getattr(self, "at_range_end", False))
+
+
+def shape_out(x, shape):
+    """``x`` reshaped to the questions' ``shape``; a Python scalar for a single question
+    (``shape == ()``)."""
+    x = np.asarray(x)
+    return x.reshape(shape) if shape else x.reshape(()).item()

@@ -18,13 +18,14 @@ from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
 from ..core.equilibrium import equilibrium
-from .answers import InverseAnswer
+from .answers import InverseAnswer, shape_out
+from .data_parameters import parameter_map
 from .feeds import feed_ratio_spec
 from .inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
 from .roots import bracketed_roots
-from .uncertainty import (ASSUMPTIONS, BatchedSystem, ROOT_FTOL, ROOT_XTOL, T_STEP, batched_system,
-                          check_method, coverage_factor, output_gibbs_derivatives, parameter_map,
-                          percent_labels, quantiles, rank_data, shape_out)
+from .perturbed_system import BatchedSystem, batched_system, output_gibbs_derivatives
+from .uncertainty import ASSUMPTIONS, ROOT_FTOL, ROOT_XTOL, T_STEP
+from .uncertainty_statistics import check_method, coverage_factor, percent_labels, quantiles, rank_data
 
 
 # =========================================================================== inverse: temperature

@@ -51,7 +51,7 @@ from ...thermo.units import to_kelvin, to_si
 from ..core.inputs import (broadcast_shape, conversion_targets, feed_mapping, pressures, quantity,
                            reaction_list, species_names, temperatures, whole_number)
 from ..core.result import EquilibriumInputError
-from .answers import InverseAnswer
+from .answers import InverseAnswer, shape_out
 from .feeds import approach_kelvin, feed_ratio_spec, resolve_feed
 from .maps import solve_points
 from .roots import InverseSearch, inverse_search
@@ -164,10 +164,6 @@ def _messages(search: InverseSearch, var: _Variable, key: str, target, condition
         out.append(text)
     return out
 
-
-def _shape_out(x, shape):
-    x = np.asarray(x)
-    return x.reshape(shape) if shape else x.reshape(()).item()
 
 
 def _object_array(items, shape):
@@ -399,12 +395,12 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     conditions = [f"at {_bar(p)}" for p in P_c]
     msgs = _messages(search, _TEMPERATURE, key, tg, conditions, lo, hi, lambda u: u, dT)
     return TemperatureAnswer(
-        T=_shape_out(T_ans, shape), reached=_shape_out(search.reached, shape),
-        at_range_end=_shape_out(search.whole_range, shape),
-        conversion_at_T=_shape_out(conv_at, shape), best_conversion=_shape_out(search.best_conversion, shape),
-        best_T=_shape_out(search.best_value, shape),
+        T=shape_out(T_ans, shape), reached=shape_out(search.reached, shape),
+        at_range_end=shape_out(search.whole_range, shape),
+        conversion_at_T=shape_out(conv_at, shape), best_conversion=shape_out(search.best_conversion, shape),
+        best_T=shape_out(search.best_value, shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
-        T_equilibrium=_shape_out(T_eq, shape), P=_shape_out(P_c, shape), target=_shape_out(tg, shape),
+        T_equilibrium=shape_out(T_eq, shape), P=shape_out(P_c, shape), target=shape_out(tg, shape),
         key=key, approach=dT, message=_object_array(msgs, shape))
 
 
@@ -484,12 +480,12 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
     conditions = [f"at {_num(t, 2)} K" for t in T_c]
     msgs = _messages(search, _PRESSURE, key, tg, conditions, lo, hi, lambda u: _snap(np.exp(u), lo, hi), dT)
     return PressureAnswer(
-        P=_shape_out(P_ans, shape), reached=_shape_out(search.reached, shape),
-        at_range_end=_shape_out(search.whole_range, shape),
-        conversion_at_P=_shape_out(conv_at, shape), best_conversion=_shape_out(search.best_conversion, shape),
-        best_P=_shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
+        P=shape_out(P_ans, shape), reached=shape_out(search.reached, shape),
+        at_range_end=shape_out(search.whole_range, shape),
+        conversion_at_P=shape_out(conv_at, shape), best_conversion=shape_out(search.best_conversion, shape),
+        best_P=shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
-        T=_shape_out(T_c, shape), T_equilibrium=_shape_out(T_eq, shape), target=_shape_out(tg, shape),
+        T=shape_out(T_c, shape), T_equilibrium=shape_out(T_eq, shape), target=shape_out(tg, shape),
         key=key, approach=dT, message=_object_array(msgs, shape))
 
 
@@ -565,14 +561,14 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
     msgs = _messages(search, _ratio_variable(spec.name), key, tg, conditions, lo, hi,
                      lambda u: _snap(np.exp(u), lo, hi), dT)
     return FeedRatioAnswer(
-        ratio=_shape_out(r_ans, shape), ratio_name=spec.name, reached=_shape_out(search.reached, shape),
-        at_range_end=_shape_out(search.whole_range, shape),
-        conversion_at_ratio=_shape_out(conv_at, shape),
-        best_conversion=_shape_out(search.best_conversion, shape),
-        best_ratio=_shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
+        ratio=shape_out(r_ans, shape), ratio_name=spec.name, reached=shape_out(search.reached, shape),
+        at_range_end=shape_out(search.whole_range, shape),
+        conversion_at_ratio=shape_out(conv_at, shape),
+        best_conversion=shape_out(search.best_conversion, shape),
+        best_ratio=shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
-        T=_shape_out(T_c, shape), P=_shape_out(P_c, shape), T_equilibrium=_shape_out(T_eq, shape),
-        target=_shape_out(tg, shape), key=key, approach=dT, message=_object_array(msgs, shape))
+        T=shape_out(T_c, shape), P=shape_out(P_c, shape), T_equilibrium=shape_out(T_eq, shape),
+        target=shape_out(tg, shape), key=key, approach=dT, message=_object_array(msgs, shape))
 
 
 # =========================================================================== carbon

@@ -39,33 +39,28 @@ engineering practice.
 """
 from __future__ import annotations
 
-import statistics
 import warnings
 from dataclasses import dataclass, field
 from typing import Mapping, Sequence
 
-import numbers
 import numpy as np
 
-from ...thermo.data_uncertainty import (METHODS, REACTION_ENTHALPY, REACTION_ENTROPY, UncertainDatum,
-                                        UncertaintyDefaults, UncertaintyInputError, bundled_defaults,
-                                        kinds_of, normalise_overrides, read_u, species_uncertainty)
+from ...thermo.data_uncertainty import UncertaintyDefaults, UncertaintyInputError
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import R
-from ...thermo.reactions import Reaction, ReactionLevelData, bundled_database
-from ...thermo.species import Species
-from ...thermo.units import to_kelvin
+from ...thermo.reactions import bundled_database
 from ..core.equilibrium import equilibrium
 from ..core.inputs import pressures, temperatures
+from .answers import shape_out
+# ParameterMap, LnKUncertainty, the ln K functions, BatchedSystem, RankedDatum and ranking_rows
+# are served from here too: the public names of the uncertainty studies keep their address.
+from .data_parameters import ParameterMap, parameter_map
 from .feeds import approach_kelvin, approach_side, approach_temperatures
+from .ln_k_uncertainty import LnKUncertainty, ln_K_uncertainty, reaction_level_ln_K_uncertainty
+from .perturbed_system import BatchedSystem, batched_system, output_gibbs_derivatives
+from .uncertainty_statistics import (RankedDatum, check_method, coverage_factor, percent_labels, quantiles,
+                                     rank_data, ranking_rows)
 
 
-#: Largest number of states handed to one call of :func:`equilibrium` (memory bound);
-#: below it, every propagation is a single batched call.
-MAX_STATES_PER_CALL = 200_000
-
-#: Finite-difference step in g°/RT for the sensitivity coefficients [-].
-G_STEP = 1e-3
 #: Finite-difference step in temperature for ∂X/∂T [K].
 T_STEP = 0.02
 #: Root tolerances of the inverse questions: bracket width [K] and |X − target| [-].
@@ -83,306 +78,6 @@ CAUTION = ("These intervals cover the uncertainty of the thermodynamic data only
            "reactors in question often handle flammable or toxic gases at high pressure and "
            "temperature: the design must follow the applicable local codes and licensed engineering "
            "practice.")
-
-# =========================================================================== parameter map
-@dataclass(frozen=True)
-class ParameterMap:
-    """How the uncertain data move the standard Gibbs energies of a system's species.
-
-    ``δg°_j(T) = Σ_k θ_k coefficients[k, j] × (1 for enthalpies, −T for entropies)``, where
-    θ_k is the error of datum k.  A species defined by reaction-level data takes
-    ``(δΔrH° − T δΔrS°)/ν_X − Σ_i (ν_i/ν_X) δg°_i`` (Hess's law over its partners).
-
-    Attributes
-    ----------
-    species : tuple[str, ...]
-        The system's species, in the column order of ``coefficients``.
-    data : tuple[UncertainDatum, ...]
-        The uncertain data, in the row order of ``coefficients``.
-    coefficients : ndarray, shape (n_data, n_species)
-    """
-
-    species: tuple
-    data: tuple
-    coefficients: np.ndarray = field(repr=False)
-
-    @property
-    def u(self) -> np.ndarray:
-        """Standard uncertainties, shape (n_data,) [J/mol or J/(mol K)]."""
-        return np.array([d.u for d in self.data], dtype=float)
-
-    @property
-    def is_entropy(self) -> np.ndarray:
-        return np.array([d.is_entropy for d in self.data], dtype=bool)
-
-    def shift_parts(self, theta: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """(A, B) with ``δg° = A + T B`` [J/mol], both shape (..., n_species), for data errors
-        ``theta`` of shape (..., n_data)."""
-        theta = np.asarray(theta, dtype=float)
-        e = self.is_entropy
-        A = (theta * ~e) @ self.coefficients
-        B = -(theta * e) @ self.coefficients
-        return A, B
-
-    def chain_factors(self, T) -> np.ndarray:
-        """∂g°_j/∂θ_k at temperatures T [K]: shape (*shape(T), n_data, n_species)."""
-        T = np.asarray(T, dtype=float)
-        f = np.where(self.is_entropy, -T[..., None], 1.0)          # (..., n_data)
-        return f[..., None] * self.coefficients
-
-
-def parameter_map(species: Sequence[str], *, database: SpeciesDatabase | None = None,
-                  overrides: Mapping | None = None, defaults: UncertaintyDefaults | None = None) -> ParameterMap:
-    """The uncertain data of a system of species and how they shift each species' g°.
-
-    Parameters
-    ----------
-    species : sequence of str
-        The system's species (database names or aliases).
-    database : SpeciesDatabase, optional
-        Defaults to the bundled database.
-    overrides : mapping, optional
-        The user's own standard uncertainties, ``{species: {kind: u}}`` with ``kind`` one of
-        ``formation_enthalpy`` [J/mol], ``entropy`` [J/(mol K)] (``reaction_enthalpy``,
-        ``reaction_entropy`` for a species defined by reaction-level data); numbers in SI or
-        strings with units (``"0.4 kJ/mol"``).
-    defaults : UncertaintyDefaults, optional
-        Defaults to :meth:`UncertaintyDefaults.bundled`.
-
-    Returns
-    -------
-    ParameterMap
-
-    Examples
-    --------
-    >>> pm = parameter_map(["N2", "H2", "NH3"])
-    >>> [(d.label, d.u) for d in pm.data]
-    [('ΔfH°(N2)', 0.0), ('S°(N2)', 0.004), ('ΔfH°(H2)', 0.0), ('S°(H2)', 0.003),
-     ('ΔfH°(NH3)', 350.0), ('S°(NH3)', 0.05)]
-    """
-    db = database or bundled_database()
-    names = []
-    for n in species:
-        r = db.resolve(n)
-        if r not in names:
-            names.append(r)
-    user = normalise_overrides(overrides, db)
-    defaults = defaults or bundled_defaults()
-    order: list[tuple[str, str]] = []
-    data: dict[tuple[str, str], UncertainDatum] = {}
-    columns: list[dict] = []
-
-    def expand(sp: Species, coef: float, acc: dict, depth: int = 0):
-        if depth > 20:
-            raise UncertaintyInputError(f"species {sp.name}: reaction-level definitions nest too deeply")
-        kinds = kinds_of(sp)
-        if (sp.name, kinds[0]) not in data:
-            for k, d in species_uncertainty(sp, overrides=user.get(sp.name), defaults=defaults).items():
-                data[(sp.name, k)] = d
-                order.append((sp.name, k))
-        scale = float(sp.model.nu) if kinds[0] == REACTION_ENTHALPY else 1.0
-        for k in kinds:
-            acc[(sp.name, k)] = acc.get((sp.name, k), 0.0) + coef / scale
-        if kinds[0] == REACTION_ENTHALPY:
-            for partner, nu_i in sp.model.partners:
-                expand(partner, -coef * float(nu_i) / float(sp.model.nu), acc, depth + 1)
-
-    for n in names:
-        acc: dict = {}
-        expand(db.species[n], 1.0, acc)
-        columns.append(acc)
-    C = np.zeros((len(order), len(names)))
-    for j, acc in enumerate(columns):
-        for key, c in acc.items():
-            C[order.index(key), j] += c
-    C.setflags(write=False)
-    return ParameterMap(species=tuple(names), data=tuple(data[k] for k in order), coefficients=C)
-
-
-# =========================================================================== statistics helpers
-def coverage_factor(level: float) -> float:
-    return statistics.NormalDist().inv_cdf(0.5 + level / 2.0)
-
-
-def check_method(method: str, samples: int, level: float, seed=None):
-    """Refuse (UncertaintyInputError) an unknown method, a coverage ``level`` outside
-    [0.5, 1), a Monte Carlo ``samples`` that is not a whole number from 20 to 100000, or a
-    ``seed`` that is neither None nor a whole number."""
-    if method not in METHODS:
-        raise UncertaintyInputError(f"method {method!r}: use one of {', '.join(METHODS)}")
-    if (isinstance(level, (bool, np.bool_)) or not isinstance(level, numbers.Real)
-            or not (0.5 <= float(level) < 1.0)):
-        raise UncertaintyInputError(f"level {level!r}: give a coverage probability from 0.5 to below 1, e.g. 0.95")
-    if method == "monte-carlo" and (isinstance(samples, (bool, np.bool_)) or not isinstance(samples, numbers.Integral)
-                                    or not 20 <= samples <= 100_000):
-        raise UncertaintyInputError(f"samples {samples!r}: give a whole number from 20 to 100000")
-    if seed is not None and (isinstance(seed, (bool, np.bool_)) or not isinstance(seed, numbers.Integral)
-                             or seed < 0):
-        raise UncertaintyInputError(f"seed {seed!r}: give None or a whole number >= 0")
-
-
-_HUGE = 1e300
-
-
-def quantiles(values: np.ndarray, qs: Sequence[float]) -> np.ndarray:
-    """Quantiles along axis 0 ignoring NaN (failed solves); ±inf (censored: beyond the search
-    range) count as samples and give ±inf where a quantile falls among them."""
-    v = np.where(np.isposinf(values), _HUGE, np.where(np.isneginf(values), -_HUGE, values))
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        q = np.nanquantile(v, qs, axis=0)
-    q = np.where(q > 1e290, np.inf, np.where(q < -1e290, -np.inf, q))
-    return q
-
-
-def share_rows(c: np.ndarray, u: np.ndarray):
-    contrib = (c * u) ** 2
-    total = contrib.sum(axis=-1, keepdims=True)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        share = np.where(total > 0, contrib / total, 0.0)
-    return contrib, share
-
-
-@dataclass(frozen=True)
-class RankedDatum:
-    """One entry of a sensitivity ranking.
-
-    Attributes
-    ----------
-    rank : int
-        1 for the datum that moves the answer most.
-    datum : UncertainDatum
-    sensitivity : float
-        Sensitivity coefficient ∂answer/∂datum [answer unit per datum unit].
-    contribution : float
-        |sensitivity| × u: the answer's standard uncertainty from this datum alone [answer unit].
-    share : float
-        Share of the answer's variance (c u)²/u(answer)² [-].
-    """
-
-    rank: int
-    datum: UncertainDatum
-    sensitivity: float
-    contribution: float
-    share: float
-
-
-def rank_data(data, c: np.ndarray, u: np.ndarray, by: str) -> tuple:
-    """Ranking from sensitivities c of shape (n_states, n_data) (shares averaged over states)."""
-    c = np.atleast_2d(c)
-    ok = np.all(np.isfinite(c), axis=1)
-    if not ok.any():
-        return ()
-    c = c[ok]
-    contrib, share = share_rows(c, u)
-    mean_share = share.mean(axis=0)
-    mean_contrib = np.sqrt(contrib.mean(axis=0))
-    mean_c = c.mean(axis=0)
-    keep = [k for k in range(len(data)) if u[k] > 0]        # data known exactly cannot move the answer
-    if by == "species":
-        groups: dict[str, list[int]] = {}
-        for k in keep:
-            groups.setdefault(data[k].species, []).append(k)
-        items = []
-        for sp, ks in groups.items():
-            items.append((float(mean_share[ks].sum()), sp, float(np.sqrt((contrib[:, ks].sum(axis=1)).mean()))))
-        items.sort(key=lambda t: -t[0])
-        return tuple((i + 1, sp, contr, sh) for i, (sh, sp, contr) in enumerate(items))
-    if by != "datum":
-        raise UncertaintyInputError(f"by={by!r}: use 'datum' or 'species'")
-    order = sorted(keep, key=lambda k: (-mean_share[k], -abs(mean_c[k] * u[k]), k))
-    return tuple(RankedDatum(i + 1, data[k], float(mean_c[k]), float(mean_contrib[k]), float(mean_share[k]))
-                 for i, k in enumerate(order))
-
-
-# =========================================================================== batched solving
-@dataclass(frozen=True)
-class BatchedSystem:
-    names: tuple
-    feed: dict                 # name -> (p,) feed amounts per state
-    gas_mask: np.ndarray
-    key: str | None
-    reactions: tuple
-    gas_model: str
-    database: SpeciesDatabase
-    binary_interaction: Mapping | None
-
-    def solve(self, T, P, state, shift=None):
-        """Amounts (n, ns), converged (n,) at flat T, P (n,), feed row ``state`` (n,) and
-        g° shifts ``shift`` (n, ns) [J/mol]; one equilibrium call per MAX_STATES_PER_CALL."""
-        T = np.asarray(T, dtype=float).reshape(-1)
-        P = np.broadcast_to(np.asarray(P, dtype=float).reshape(-1), T.shape)
-        n, ns = T.size, len(self.names)
-        amounts = np.full((n, ns), np.nan)
-        feed_out = np.zeros((n, ns))
-        conv = np.zeros(n, dtype=bool)
-        for s in range(0, n, MAX_STATES_PER_CALL):
-            sl = slice(s, min(n, s + MAX_STATES_PER_CALL))
-            feed = {k: v[state[sl]] for k, v in self.feed.items()}
-            g0_shift = None
-            if shift is not None:
-                g0_shift = {name: shift[sl, j] for j, name in enumerate(self.names) if np.any(shift[sl, j] != 0)}
-            res = equilibrium(list(self.names), feed, T[sl], P[sl], reactions=self.reactions or None,
-                              gas_model=self.gas_model, database=self.database,
-                              binary_interaction=self.binary_interaction, g0_shift=g0_shift or None, warn=False)
-            if tuple(res.species) != self.names:
-                raise RuntimeError("species order changed between solver calls")   # pragma: no cover
-            amounts[sl] = res.amount_array
-            feed_out[sl] = res.feed_array
-            conv[sl] = res.converged
-        return amounts, feed_out, conv
-
-    def conversion(self, amounts, feed):
-        k = self.names.index(self.key)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            return (feed[..., k] - amounts[..., k]) / feed[..., k]
-
-    def quantities(self, amounts, feed) -> np.ndarray:
-        """(..., n_quantities): conversion of the key (if any), then gas mole fractions."""
-        gas = np.where(self.gas_mask, amounts, 0.0)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            y = gas / gas.sum(axis=-1, keepdims=True)
-        cols = [y[..., j] for j in np.flatnonzero(self.gas_mask)]
-        if self.key is not None:
-            cols.insert(0, self.conversion(amounts, feed))
-        return np.stack(cols, axis=-1)
-
-    def quantity_names(self) -> list[str]:
-        names = [f"y {self.names[j]}" for j in np.flatnonzero(self.gas_mask)]
-        if self.key is not None:
-            names.insert(0, f"conversion {self.key}")
-        return names
-
-
-def batched_system(species, feed_by_state: np.ndarray, names, gas_mask, *, key, reactions, gas_model, database,
-            binary_interaction) -> BatchedSystem:
-    fa = feed_by_state.reshape(-1, len(names))
-    feed = {names[j]: fa[:, j].copy() for j in range(len(names)) if np.any(fa[:, j] > 0)}
-    return BatchedSystem(tuple(names), feed, gas_mask, key, tuple(reactions or ()), gas_model, database, binary_interaction)
-
-
-def g_steps(T: np.ndarray) -> np.ndarray:
-    return G_STEP * R * np.asarray(T, dtype=float)
-
-
-def output_gibbs_derivatives(system: BatchedSystem, T, P) -> np.ndarray:
-    """Central differences ∂Y/∂g°_j at flat states T, P (p,): shape (p, n_q, ns) [per J/mol]."""
-    T = np.asarray(T, dtype=float)
-    p, ns = T.size, len(system.names)
-    h = g_steps(T)                                       # (p,)
-    sign = np.array([1.0, -1.0])
-    # rows: (species j, sign, state)
-    shift = np.zeros((ns, 2, p, ns))
-    for j in range(ns):
-        shift[j, :, :, j] = sign[:, None] * h[None, :]
-    state = np.broadcast_to(np.arange(p), (ns, 2, p)).reshape(-1)
-    amounts, feed, _ = system.solve(np.broadcast_to(T, (ns, 2, p)).reshape(-1),
-                                    np.broadcast_to(P, (ns, 2, p)).reshape(-1), state,
-                                    shift.reshape(-1, ns))
-    Y = system.quantities(amounts, feed).reshape(ns, 2, p, -1)
-    d = (Y[:, 0] - Y[:, 1]) / (2.0 * h[None, :, None])    # (ns, p, nq)
-    return np.moveaxis(d, 0, -1)                           # (p, nq, ns)
-
 
 # =========================================================================== forward propagation
 @dataclass(frozen=True)
@@ -508,11 +203,6 @@ class EquilibriumUncertainty:
         return [{k: float(v[i]) for k, v in flat.items()} for i in range(n)]
 
 
-def percent_labels(level: float) -> tuple[str, str]:
-    lo = 50.0 * (1.0 - level)
-    return f"{lo:.3g} %", f"{100.0 - lo:.3g} %"
-
-
 def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *, key: str | None = None,
                           reactions: Sequence[str] | None = None, gas_model: str = "ideal", approach=None,
                           database: SpeciesDatabase | None = None, method: str = "monte-carlo",
@@ -566,7 +256,7 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
     """
     check_method(method, samples, level, seed)
     db = database or bundled_database()
-    dT = _approach(approach)
+    dT = approach_kelvin(approach)
     if dT and key is None:
         raise UncertaintyInputError("an approach needs the key reactant (key=...) to choose its side")
     T_arr = temperatures(T)
@@ -642,156 +332,6 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
         message=msg + "; " + ASSUMPTIONS)
 
 
-def shape_out(x, shape):
-    x = np.asarray(x)
-    return x.reshape(shape) if shape else x.reshape(()).item()
-
-
-def _approach(approach) -> float | None:
-    if approach is None:
-        return None
-    return approach_kelvin(approach)
-
-
-# =========================================================================== K(T)
-@dataclass(frozen=True)
-class LnKUncertainty:
-    """ln K(T) of a reaction with its standard uncertainty from the data.
-
-    Attributes
-    ----------
-    T : float | ndarray
-        Temperature [K].
-    ln_K : float | ndarray
-        ln K with the nominal data [-].
-    standard_uncertainty : float | ndarray
-        u(ln K) [-] (exact: ln K is linear in the data).
-    K_lower, K_upper : float | ndarray
-        exp(ln K ∓ z u) at coverage ``level`` [-].
-    level : float
-    sensitivity : ndarray, shape (*shape(T), n_data)
-        ∂ ln K/∂datum [per J/mol or per J/(mol K)].
-    data : tuple[UncertainDatum, ...]
-    """
-
-    T: object
-    ln_K: object
-    standard_uncertainty: object
-    K_lower: object
-    K_upper: object
-    level: float
-    sensitivity: np.ndarray = field(repr=False)
-    data: tuple = field(repr=False)
-
-    def ranking(self, *, at=None, by: str = "datum") -> tuple:
-        """Data ranked by their share of Var ln K (averaged over T unless ``at`` is given)."""
-        c = self.sensitivity if at is None else self.sensitivity[at]
-        return rank_data(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
-
-
-def ln_K_uncertainty(reaction: str | Reaction, T, *, database: SpeciesDatabase | None = None,
-                     overrides: Mapping | None = None, defaults: UncertaintyDefaults | None = None,
-                     level: float = 0.95) -> LnKUncertainty:
-    """Standard uncertainty of ln K(T) of a reaction from its species' data.
-
-    ``δ ln K = −Σ_i ν_i δg°_i/(RT)`` with ``δg°_i = δΔfH°_i − T δS°_i``; for independent data
-    ``u²(ln K) = Σ_i ν_i² (u²(ΔfH°_i)/(RT)² + u²(S°_i)/R²)`` (species defined by
-    reaction-level data contribute through their ΔrH°, ΔrS° and partners).  Exact, since
-    ln K is linear in the data.
-
-    Parameters
-    ----------
-    reaction : str | Reaction
-    T : float | array_like | str
-        Temperature [K].
-    database, overrides, defaults
-        As for :func:`parameter_map`.
-    level : float
-        Coverage probability of the K interval [-].
-
-    Returns
-    -------
-    LnKUncertainty
-
-    Examples
-    --------
-    N2 + 3 H2 = 2 NH3 at 700 K: 2 × 350 J/mol (u(ΔfH°(NH3)), CODATA, from memory) over RT
-    gives 0.1203; the entropies (2 × 0.05, 3 × 0.003, 0.004 J/(mol K)) over R add in quadrature:
-
-    >>> r = ln_K_uncertainty("N2 + 3 H2 = 2 NH3", 700.0)
-    >>> round(r.standard_uncertainty, 4)
-    0.1209
-    """
-    db = database or bundled_database()
-    rxn = reaction if isinstance(reaction, Reaction) else Reaction.parse(reaction, db)
-    T = np.asarray(to_kelvin(T), dtype=float)
-    pm = parameter_map(rxn.names, database=db, overrides=overrides, defaults=defaults)
-    nu = np.array([rxn.stoichiometry[n] for n in pm.species])
-    chain = pm.chain_factors(T)                                      # (..., nd, ns)
-    sens = -(chain @ nu) / (R * T[..., None])                          # (..., nd)
-    u = pm.u
-    su = np.sqrt(((sens * u) ** 2).sum(axis=-1))
-    lnK = np.asarray(rxn.ln_K(T), dtype=float)
-    z = coverage_factor(level)
-    f = (lambda a: float(a) if np.ndim(a) == 0 else a)   # noqa: E731
-    return LnKUncertainty(T=f(T), ln_K=f(lnK), standard_uncertainty=f(su), K_lower=f(np.exp(lnK - z * su)),
-                          K_upper=f(np.exp(lnK + z * su)), level=float(level), sensitivity=sens, data=pm.data)
-
-
-def reaction_level_ln_K_uncertainty(data: ReactionLevelData, T, *, u_delta_h, u_delta_s, correlation: float = 0.0,
-                                    level: float = 0.95) -> LnKUncertainty:
-    """Standard uncertainty of ln K(T) from reaction-level data (van 't Hoff / Kirchhoff).
-
-    ``ln K = −ΔrH°(T)/RT + ΔrS°(T)/R`` with ΔrCp taken as exact, so
-    ``u²(ln K) = u²(ΔrH°)/(RT)² + u²(ΔrS°)/R² − 2 r u(ΔrH°) u(ΔrS°)/(R² T)`` (GUM, with
-    correlation coefficient r between the two; fitted ΔrH° and ΔrS° are usually strongly
-    positively correlated, r = 0 is then conservative).
-
-    Parameters
-    ----------
-    data : ReactionLevelData
-    T : float | array_like | str
-        Temperature [K].
-    u_delta_h : float | str
-        u(ΔrH°) [J/mol] (or a quantity such as ``"2 kJ/mol"``).
-    u_delta_s : float | str
-        u(ΔrS°) [J/(mol K)].
-    correlation : float
-        Correlation coefficient of the ΔrH° and ΔrS° errors [-], from −1 to 1.
-    level : float
-
-    Returns
-    -------
-    LnKUncertainty
-        ``data`` holds two :class:`UncertainDatum` entries (species ``data.text`` or
-        ``"reaction"``); ``sensitivity`` their coefficients.
-
-    Examples
-    --------
-    >>> d = ReactionLevelData.from_K(K_ref=2.0, T_ref=500.0, delta_h=-50e3)
-    >>> r = reaction_level_ln_K_uncertainty(d, 500.0, u_delta_h=2000.0, u_delta_s=0.0)
-    >>> round(r.standard_uncertainty, 4)                 # 2000 / (R × 500)
-    0.4811
-    """
-    uh = read_u(u_delta_h, REACTION_ENTHALPY, "u_delta_h")
-    us = read_u(u_delta_s, REACTION_ENTROPY, "u_delta_s")
-    if not -1.0 <= correlation <= 1.0:
-        raise UncertaintyInputError(f"correlation {correlation!r}: give a coefficient from -1 to 1")
-    T = np.asarray(to_kelvin(T), dtype=float)
-    cH = -1.0 / (R * T)
-    cS = np.full_like(T, 1.0 / R)
-    var = (cH * uh) ** 2 + (cS * us) ** 2 + 2.0 * correlation * cH * cS * uh * us
-    su = np.sqrt(np.maximum(var, 0.0))
-    lnK = np.asarray(data.ln_K(T), dtype=float)
-    z = coverage_factor(level)
-    label = data.text or "reaction"
-    f = (lambda a: float(a) if np.ndim(a) == 0 else a)   # noqa: E731
-    return LnKUncertainty(T=f(T), ln_K=f(lnK), standard_uncertainty=f(su), K_lower=f(np.exp(lnK - z * su)),
-                          K_upper=f(np.exp(lnK + z * su)), level=float(level),
-                          sensitivity=np.stack([cH, cS], axis=-1),
-                          data=(UncertainDatum(label, REACTION_ENTHALPY, uh, "user"),
-                                UncertainDatum(label, REACTION_ENTROPY, us, "user")))
-
 
 # =========================================================================== outputs
 @dataclass(frozen=True)
@@ -834,31 +374,6 @@ class Band:
         return [{self.x_label: float(x), f"{q} [{un}]": float(n), f"{q} {lo} [{un}]": float(a),
                  f"{q} median [{un}]": float(md), f"{q} {hi} [{un}]": float(b)}
                 for x, n, a, md, b in zip(self.x, self.nominal, self.lower, self.median, self.upper)]
-
-
-def ranking_rows(ranking: Sequence[RankedDatum], *, answer_unit: str = "K", top: int | None = None) -> list[dict]:
-    """Table rows of a sensitivity ranking, headers carrying units.
-
-    Columns: ``rank``, ``datum``, ``u`` and ``unit of u`` (J/mol or J/(mol K)), ``origin``,
-    ``sensitivity [answer unit per datum unit]``, ``contribution [answer unit]``,
-    ``share of variance [%]``.
-
-    Examples
-    --------
-    >>> from eqdesign.solve import temperature_interval
-    >>> t = temperature_interval(["N2", "H2", "NH3"], {"N2": 1, "H2": 3}, "200 bar", "N2", 0.2,
-    ...                          T_range=(500, 1000), method="linear")
-    >>> row = ranking_rows(t.ranking(), top=1)[0]
-    >>> row["datum"], round(row["contribution [K]"], 1), round(row["share of variance [%]"])
-    ('ΔfH°(NH3)', 5.4, 99)
-    """
-    rows = []
-    for e in list(ranking)[:top]:
-        d = e.datum
-        rows.append({"rank": e.rank, "datum": d.label, "u": d.u, "unit of u": d.unit, "origin": d.origin,
-                     f"sensitivity [{answer_unit} per {d.unit}]": e.sensitivity,
-                     f"contribution [{answer_unit}]": e.contribution, "share of variance [%]": 100.0 * e.share})
-    return rows
 
 
 # =========================================================================== settings
