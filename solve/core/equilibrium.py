@@ -19,7 +19,7 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import Nasa7Polynomial, P_STANDARD, R
+from ...thermo.models import Nasa7Polynomial, Nasa7Table, P_STANDARD, R
 from ...thermo.reactions import bundled_database
 from ...thermo.species import standard_gibbs_RT
 from . import compiled as compiled_core
@@ -38,13 +38,9 @@ def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, toleranc
     if compiled_core is None or not all(isinstance(sp.model, Nasa7Polynomial) for sp in records):
         raise EquilibriumInputError("fixed-enthalpy solves need NASA-polynomial data for every "
                                     "species; use adiabatic_equilibrium for other data")
-    ns = len(records)
-    n_ranges = np.array([sp.model.coefficients.shape[0] for sp in records], dtype=np.int64)
-    coeffs = np.zeros((ns, n_ranges.max(), 7))
-    bounds = np.full((ns, n_ranges.max() + 1), np.inf)
-    for j, sp in enumerate(records):
-        coeffs[j, :n_ranges[j]] = sp.model.coefficients
-        bounds[j, :n_ranges[j] + 1] = sp.model.T_bounds
+    table = Nasa7Table.from_polynomials([sp.model for sp in records])
+    # writable copies: the compiled kernel is specialised on writable arrays
+    coeffs, bounds, n_ranges = (np.array(a) for a in (table.coefficients, table.bounds, table.n_ranges))
     p, nG, nC, m = b.shape[0], A_gas.shape[1], A_cond.shape[1], A_gas.shape[0]
     state = initial_state(p, nG, nC, m)
     ln_T = np.log(np.asarray(T_start, dtype=float)).copy()

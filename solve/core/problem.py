@@ -16,6 +16,15 @@ from .newton import CoreState, initial_state
 
 
 def stoichiometric_matrix(reactions: Sequence[Reaction], species: Sequence[str]) -> np.ndarray:
+    """The stoichiometric matrix N[i, j] = ν of species i in reaction j [-], shape
+    (n_species, n_reactions); the one builder of N in the package.
+
+    Examples
+    --------
+    >>> from eqdesign.thermo.reactions import Reaction
+    >>> stoichiometric_matrix([Reaction.parse("N2 + 3 H2 = 2 NH3")], ["N2", "H2", "NH3"]).ravel().tolist()
+    [-1.0, -3.0, 2.0]
+    """
     N = np.zeros((len(species), len(reactions)))
     for j, r in enumerate(reactions):
         for name, nu in zip(r.names, r.coefficients):

@@ -8,12 +8,12 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import Nasa7Polynomial, R
+from ...thermo.models import Nasa7Polynomial, Nasa7Table, R
 from ...thermo.reactions import bundled_database
 from ..core.equilibrium import equilibrium
 from ..core.fugacity import FugacityModel
 from ..core.inputs import broadcast_shape, feed_mapping, pressures, quantity, species_names, temperatures
-from ..core.problem import element_matrix, invariant_basis
+from ..core.problem import element_matrix, invariant_basis, stoichiometric_matrix
 from ..core.result import EquilibriumInputError, EquilibriumResult
 
 
@@ -26,21 +26,11 @@ class MixtureEnthalpy:
         self.records = list(records)
         self.is_gas = np.array([sp.is_gas for sp in self.records])
         self.gas_columns = np.flatnonzero(self.is_gas)
-        # two-range NASA polynomials (nearly every species) evaluated together
-        ns = len(self.records)
-        self._low = np.zeros((ns, 7))
-        self._high = np.zeros((ns, 7))
-        self._T_mid = np.full(ns, np.inf)
-        self._other = []
-        for j, sp in enumerate(self.records):
-            m = sp.model
-            if isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 3:
-                self._low[j], self._high[j] = m.coefficients
-                self._T_mid[j] = m.T_bounds[1]
-            elif isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 2:
-                self._low[j] = self._high[j] = m.coefficients[0]
-            else:
-                self._other.append(j)
+        # NASA polynomials (nearly every species) evaluated together
+        self._nasa = [j for j, sp in enumerate(self.records) if isinstance(sp.model, Nasa7Polynomial)]
+        self._other = [j for j, sp in enumerate(self.records) if not isinstance(sp.model, Nasa7Polynomial)]
+        self._table = (Nasa7Table.from_polynomials([self.records[j].model for j in self._nasa])
+                       if self._nasa else None)
         self.eos = None
         if gas_model == "peng-robinson":
             self.eos = FugacityModel([sp for sp in self.records if sp.is_gas], binary_interaction)
@@ -55,12 +45,12 @@ class MixtureEnthalpy:
             for sp in self.records:
                 sp.check_temperature(ends[np.isfinite(ends)])
         Tc = T[..., None]
-        use_low = Tc <= self._T_mid
-        a = [np.where(use_low, lo, hi) for lo, hi in zip(self._low.T, self._high.T)]
-        cp_R = a[0] + Tc * (a[1] + Tc * (a[2] + Tc * (a[3] + Tc * a[4])))
-        h_RT = a[0] + Tc * (a[1] / 2 + Tc * (a[2] / 3 + Tc * (a[3] / 4 + Tc * a[4] / 5))) + a[5] / Tc
-        cp = R * cp_R
-        h = R * Tc * h_RT
+        cp = np.zeros(T.shape + (len(self.records),))
+        h = np.zeros(T.shape + (len(self.records),))
+        if self._table is not None:
+            cp_R, h_RT = self._table.heat_capacity_enthalpy(T)
+            cp[..., self._nasa] = R * cp_R
+            h[..., self._nasa] = R * Tc * h_RT
         for j in self._other:
             cp_j, h_j, _ = self.records[j].model.dimensionless(T)
             cp[..., j] = R * cp_j
@@ -268,12 +258,7 @@ def isothermal_duty(species: Sequence[str], feed: Mapping[str, object], T_in, T,
 def conservation_matrix(result: EquilibriumResult, records) -> np.ndarray:
     """Rows conserved by the result's problem: element counts, or reaction invariants."""
     if result.reactions:
-        names = list(result.species)
-        N = np.zeros((len(names), len(result.reactions)))
-        for j, r in enumerate(result.reactions):
-            for name, nu in zip(r.names, r.coefficients):
-                N[names.index(name), j] += nu
-        return invariant_basis(N)
+        return invariant_basis(stoichiometric_matrix(result.reactions, list(result.species)))
     return element_matrix(records)[1]
 
 
