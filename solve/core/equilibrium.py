@@ -63,6 +63,63 @@ def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, toleranc
     return out, np.where(converged, T, np.nan)
 
 
+def _read_states(db, species, feed, T, P, rxns, g0_shift, enthalpy, gas_model):
+    """Species names and records, and every state's inputs checked and broadcast.
+
+    Returns (names, records, shape, n0 (p, ns) [mol], T (p,) [K], P broadcast to shape [Pa],
+    H (p,) [J] or None, g0 shifts by species [J/mol]); EquilibriumInputError naming the
+    argument for any bad value.
+    """
+    names: list[str] = []
+    for n in list(species) + list(feed):
+        resolved = db.resolve(n)
+        if resolved not in names:
+            names.append(resolved)
+    for r in rxns:
+        for n in r.names:
+            if n not in names:
+                names.append(n)
+    records = [db.species[n] for n in names]
+    ns = len(names)
+
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    feed_arrays = {db.resolve(k): quantity(v, "amount", f"feed of {k}") for k, v in feed.items()}
+    shift_arrays = {db.resolve(k): quantity(v, "molar_energy", f"g0_shift of {k}") for k, v in (g0_shift or {}).items()}
+    H_arr = None if enthalpy is None else quantity(enthalpy, "energy", "enthalpy")
+    shape = broadcast_shape(T=T_arr, P=P_arr, **{f"feed of {k}": a for k, a in feed_arrays.items()},
+                            **{f"g0_shift of {k}": a for k, a in shift_arrays.items()},
+                            **({} if H_arr is None else {"enthalpy": H_arr}))
+    T_b = np.broadcast_to(T_arr, shape)
+    P_b = np.broadcast_to(P_arr, shape)
+    n_points = int(np.prod(shape)) if shape else 1
+    n0 = np.zeros((n_points, ns))
+    for name, arr in feed_arrays.items():
+        v = np.broadcast_to(arr, shape).reshape(n_points)
+        if np.any(v < 0) or np.any(~np.isfinite(v)):
+            raise EquilibriumInputError(f"feed of {name} must be finite and non-negative")
+        n0[:, names.index(name)] = v
+    total_feed = n0.sum(axis=1)
+    if np.any(total_feed <= 0):
+        raise EquilibriumInputError("the feed is empty (all amounts zero) at some state")
+    if np.any(total_feed < np.finfo(float).tiny):
+        raise EquilibriumInputError(f"the feed total is below {np.finfo(float).tiny:.3g} mol (the smallest "
+                                    "normal float) at some state; scale the amounts up (the equilibrium "
+                                    "composition does not depend on the scale)")
+    Tf = T_b.reshape(n_points).copy()
+    Pf = P_b.reshape(n_points)
+    Hf = None
+    if H_arr is not None:
+        if gas_model != "ideal" or shift_arrays:
+            raise EquilibriumInputError("fixed-enthalpy solves take the ideal gas and no g0_shift; "
+                                        "use adiabatic_equilibrium for the general case")
+        Hf = np.broadcast_to(H_arr, shape).reshape(n_points)
+    return names, records, shape, n0, Tf, P_b, Hf, shift_arrays
+
+
+
+# Stays long: one sequential pass (conservation rows, solve per feed pattern, second chance for
+# stragglers, result); the input checks live in _read_states.
 def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 reactions: Sequence[str] | None = None, gas_model: str = "ideal",
                 key: str | None = None, database: SpeciesDatabase | None = None,
@@ -137,49 +194,11 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     tolerance = positive_number(tolerance, "tolerance")
     max_iterations = whole_number(max_iterations, "max_iterations", 1)
     mapping_or_none(g0_shift, "g0_shift", "{'NH3': 500.0} (J/mol)")
-    names: list[str] = []
-    for n in list(species) + list(feed):
-        resolved = db.resolve(n)
-        if resolved not in names:
-            names.append(resolved)
-    for r in rxns:
-        for n in r.names:
-            if n not in names:
-                names.append(n)
-    records = [db.species[n] for n in names]
-    ns = len(names)
-
-    T_arr = temperatures(T)
-    P_arr = pressures(P)
-    feed_arrays = {db.resolve(k): quantity(v, "amount", f"feed of {k}") for k, v in feed.items()}
-    shift_arrays = {db.resolve(k): quantity(v, "molar_energy", f"g0_shift of {k}") for k, v in (g0_shift or {}).items()}
-    H_arr = None if enthalpy is None else quantity(enthalpy, "energy", "enthalpy")
-    shape = broadcast_shape(T=T_arr, P=P_arr, **{f"feed of {k}": a for k, a in feed_arrays.items()},
-                            **{f"g0_shift of {k}": a for k, a in shift_arrays.items()},
-                            **({} if H_arr is None else {"enthalpy": H_arr}))
-    T_b = np.broadcast_to(T_arr, shape)
-    P_b = np.broadcast_to(P_arr, shape)
-    n_points = int(np.prod(shape)) if shape else 1
-    n0 = np.zeros((n_points, ns))
-    for name, arr in feed_arrays.items():
-        v = np.broadcast_to(arr, shape).reshape(n_points)
-        if np.any(v < 0) or np.any(~np.isfinite(v)):
-            raise EquilibriumInputError(f"feed of {name} must be finite and non-negative")
-        n0[:, names.index(name)] = v
-    total_feed = n0.sum(axis=1)
-    if np.any(total_feed <= 0):
-        raise EquilibriumInputError("the feed is empty (all amounts zero) at some state")
-    if np.any(total_feed < np.finfo(float).tiny):
-        raise EquilibriumInputError(f"the feed total is below {np.finfo(float).tiny:.3g} mol (the smallest "
-                                    "normal float) at some state; scale the amounts up (the equilibrium "
-                                    "composition does not depend on the scale)")
-    Tf = T_b.reshape(n_points).copy()
+    names, records, shape, n0, Tf, P_b, Hf, shift_arrays = _read_states(
+        db, species, feed, T, P, rxns, g0_shift, enthalpy, gas_model)
+    ns, n_points = len(names), Tf.size
     Pf = P_b.reshape(n_points)
-    if H_arr is not None:
-        if gas_model != "ideal" or shift_arrays:
-            raise EquilibriumInputError("fixed-enthalpy solves take the ideal gas and no g0_shift; "
-                                        "use adiabatic_equilibrium for the general case")
-        Hf = np.broadcast_to(H_arr, shape).reshape(n_points)
+    total_feed = n0.sum(axis=1)
 
     # standard chemical potentials, (p, ns)
     g0 = standard_gibbs_RT(records, Tf)
@@ -244,7 +263,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
 
             def fug(sub, y, _gi=gas_index, _T=Tg, _P=Pg):
                 return eos.ln_phi(_T[sub], _P[sub], y, _gi)
-        if H_arr is not None:
+        if Hf is not None:
             out, T_solved = _solve_fixed_enthalpy([records[c] for c in cols], A_gas, A_cond, b,
                                                   np.log(Pf[rows] / P_STANDARD),
                                                   Hf[rows] / (R * scale), Tf[rows], tolerance,

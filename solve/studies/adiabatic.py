@@ -148,6 +148,8 @@ def _hermite_root(T0, f0, s0, T1, f1, s1):
     return T0 + t * L
 
 
+# Stays long: one sequential iteration on T (bracket, Hermite/secant steps, per-state bookkeeping)
+# whose steps share many arrays; splitting it would only pass them around.
 def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_in, P, *,
                           reactions: Sequence[str] | None = None, gas_model: str = "ideal",
                           database: SpeciesDatabase | None = None,

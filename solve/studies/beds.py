@@ -187,6 +187,7 @@ def _removal_plan(interstage_removal, db) -> dict:
     return plan
 
 
+# Stays long: a sequential bed-by-bed march (inlet, adiabatic bed, cooling, removal, stop rule).
 def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key: str, inlet_T, *,
                      n_beds: int | None = None, target: float | None = None, max_beds: int = 8,
                      reactions: Sequence[str] | None = None, gas_model: str = "ideal",

@@ -130,6 +130,7 @@ def _fmt_T(x: float) -> str:
     return f"{x:.1f} K"
 
 
+# Stays long: nominal answer, its refinement and the interval, one sequential routine.
 def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, key: str, target, *,
                          T_range=(300.0, 1500.0), reactions: Sequence[str] | None = None,
                          gas_model: str = "ideal", approach=None, database: SpeciesDatabase | None = None,

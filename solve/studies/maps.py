@@ -246,6 +246,7 @@ class ConversionMap:
 
 
 # --------------------------------------------------------------------------- the map
+# Stays long: reads up to four sweep axes, builds the grid and solves it chunk by chunk in order.
 def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, key: str,
                    product=None, feed_ratio=None, steam_to_carbon=None, inert=None,
                    reactions: Sequence[str] | None = None, gas_model: str = "ideal", approach=None,
