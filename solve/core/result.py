@@ -60,7 +60,8 @@ class EquilibriumResult:
         Feed amounts [mol].
     converged : ndarray of bool
     iterations : ndarray of int
-        Newton iterations used (all phase-set rounds together).
+        Newton iterations used (all phase-set rounds together, plus those of the restart
+        from the linear-programming estimate where a state needed it).
     max_residual : ndarray
         Largest scaled residual at the end (conservation and chemical-potential steps).
     reactions : tuple[Reaction, ...]

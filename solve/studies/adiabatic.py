@@ -68,7 +68,9 @@ class AdiabaticResult:
         approach to equilibrium was asked for; its own ``.T`` is that temperature).
     converged : ndarray of bool
     iterations : ndarray of int
-        Equilibrium evaluations used (one batched call each).
+        General path: equilibrium evaluations used (one batched call each).  Compiled
+        fixed-enthalpy path (ideal gas, NASA data, no approach): the Newton iterations of
+        that kernel, temperature included (``equilibrium.iterations``).
     enthalpy_residual : ndarray
         ``|H_out - H_in| / H_scale`` [-] with ``H_scale = Σ n_i |h°_i(T_in)| + n R T_in``.
     T_in : ndarray

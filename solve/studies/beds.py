@@ -361,7 +361,7 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
                    f"after bed {len(beds)}.")
     message += message_extra
 
-    diagram = _diagram(names, db, model, key, n_key0, P_f, sections, beds, bed_ends,
+    diagram = _diagram(names, model, key, n_key0, P_f, sections, beds, bed_ends,
                        common, diagram_T, diagram_points, line_points)
     return StagedConverterResult(key=key, P=P_f, beds=tuple(beds),
                                  target=None if target is None else float(target),
@@ -369,7 +369,7 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
                                  diagram=diagram, message=message)
 
 
-def _diagram(names, db, model, key, n_key0, P, sections, beds, bed_ends, common, diagram_T,
+def _diagram(names, model, key, n_key0, P, sections, beds, bed_ends, common, diagram_T,
              diagram_points, line_points) -> ConversionTemperatureDiagram:
     """Equilibrium curves (overall conversion), bed operating lines and cooling lines."""
     if not beds:

@@ -99,9 +99,9 @@ def carbon_activity(result: EquilibriumResult, *, database: SpeciesDatabase | No
       cracking, Boudouard or CO reduction; :func:`carbon_activity_by_route`), the element
       potential where none of them applies.
 
-    Named-reactions results (gas not at full equilibrium): the largest a_C of the
-    carbon-forming routes whose species all have non-zero amounts (a route with an absent
-    species gives no finite value and is skipped).
+    Named-reactions results (gas not at full equilibrium): the largest finite a_C of the
+    carbon-forming routes (a route with a species missing from the result, or whose value
+    is not finite because a species amount is zero, is skipped); ``method`` does not apply.
 
     Parameters
     ----------
@@ -111,6 +111,8 @@ def carbon_activity(result: EquilibriumResult, *, database: SpeciesDatabase | No
     database : SpeciesDatabase, optional
         Supplies the data of ``C(gr)``.
     method : {"auto", "element-potential"}
+        All-species results only: the route of the most abundant species (``"auto"``,
+        element potential as fallback) or the element potential at every state.
 
     Returns
     -------

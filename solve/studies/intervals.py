@@ -188,7 +188,7 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
                             key=key_r, database=db, warn=False)
     names = list(res_probe.species)
     feed_one = np.asarray(res_probe.feed_array, dtype=float)[None, :]
-    system = batched_system(species, feed_one, names, res_probe.gas_mask, key=key_r, reactions=res_probe.reactions,
+    system = batched_system(feed_one, names, res_probe.gas_mask, key=key_r, reactions=res_probe.reactions,
                      gas_model=gas_model, database=db, binary_interaction=None)
     pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
 
@@ -466,7 +466,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     key_r = db.resolve(key)
     probe = equilibrium(species, feed, float(np.nanmean(T_eq)), math.exp(0.5 * (lo + hi)), reactions=reactions,
                         gas_model=gas_model, key=key_r, database=db, warn=False)
-    system = batched_system(species, np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
+    system = batched_system(np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
                      probe.gas_mask, key=key_r, reactions=probe.reactions, gas_model=gas_model, database=db,
                      binary_interaction=None)
     pm = parameter_map(list(probe.species), database=db, overrides=overrides, defaults=defaults)
@@ -583,7 +583,7 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
         rows = np.zeros((np.size(x), len(names)))
         for k, v in fed.items():
             rows[:, names.index(k)] = np.broadcast_to(v, np.shape(x))
-        return batched_system(species_all, rows, names, probe.gas_mask, key=key_r, reactions=probe.reactions,
+        return batched_system(rows, names, probe.gas_mask, key=key_r, reactions=probe.reactions,
                        gas_model=gas_model, database=db, binary_interaction=None)
 
     def conversion_at(x, cases, shift):

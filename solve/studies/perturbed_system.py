@@ -82,8 +82,10 @@ class BatchedSystem:
         return names
 
 
-def batched_system(species, feed_by_state: np.ndarray, names, gas_mask, *, key, reactions, gas_model, database,
-            binary_interaction) -> BatchedSystem:
+def batched_system(feed_by_state: np.ndarray, names, gas_mask, *, key, reactions, gas_model, database,
+                   binary_interaction) -> BatchedSystem:
+    """The system of ``names`` with one feed row per state (feed_by_state (p, n_species)
+    [mol]; species never fed are left out of the feed mapping)."""
     fa = feed_by_state.reshape(-1, len(names))
     feed = {names[j]: fa[:, j].copy() for j in range(len(names)) if np.any(fa[:, j] > 0)}
     return BatchedSystem(tuple(names), feed, gas_mask, key, tuple(reactions or ()), gas_model, database, binary_interaction)

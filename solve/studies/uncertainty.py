@@ -267,7 +267,7 @@ def propagate_equilibrium(species: Sequence[str], feed: Mapping[str, object], T,
     shape = res0.shape
     p = int(np.prod(shape)) if shape else 1
     key_r = db.resolve(key) if key else None
-    system = batched_system(species, res0.feed_array, names, res0.gas_mask, key=key_r, reactions=res0.reactions,
+    system = batched_system(res0.feed_array, names, res0.gas_mask, key=key_r, reactions=res0.reactions,
                      gas_model=gas_model, database=db, binary_interaction=binary_interaction)
     T_op = np.broadcast_to(T_arr, shape).reshape(-1)
     P_f = np.broadcast_to(P_arr, shape).reshape(-1)
