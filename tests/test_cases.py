@@ -221,7 +221,7 @@ user_species:
 def test_grid_and_ratio_helpers(db):
     case = load_case(ROOT / "cases" / "steam_reformer_carbon.yaml")
     fr = case.studies.conversion_map.feed_ratio
-    assert fr.per == "carbon" and fr.vary == "H2O" and fr.values == (2.5, 3.0, 3.5)
+    assert fr.denominator == "carbon" and fr.numerator == "H2O" and fr.values == (2.5, 3.0, 3.5)
     # carbon of the hydrocarbons only: 0.94 + 2(0.035) + 3(0.008) per 0.94 mol of CH4 basis
     basis = fr.basis(case.feed, case.database)
     assert fr.current(case.feed, case.database) == pytest.approx(3.053 / (0.94 + 0.07 + 0.024), rel=1e-9)

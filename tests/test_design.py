@@ -215,7 +215,7 @@ def test_feed_ratio_steam_to_carbon_and_unreachable():
 
 def test_input_errors_are_plain():
     """A target of 100 % or more cannot be an equilibrium conversion."""
-    with pytest.raises(EquilibriumInputError, match="target conversion must be finite and below 1"):
+    with pytest.raises(EquilibriumInputError, match="target conversion must lie strictly between 0 and 1"):
         temperature_for_conversion(NH3, FEED_NH3, 1e7, "N2", 1.0)
     with pytest.raises(EquilibriumInputError, match="T_range: need 0 < low < high"):
         temperature_for_conversion(NH3, FEED_NH3, 1e7, "N2", 0.2, T_range=(900, 500))

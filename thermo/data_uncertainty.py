@@ -37,7 +37,7 @@ _UNIT_KIND = {FORMATION_ENTHALPY: "molar_energy", ENTROPY: "molar_entropy",
               REACTION_ENTHALPY: "molar_energy", REACTION_ENTROPY: "molar_entropy"}
 _ENTROPY_KINDS = (ENTROPY, REACTION_ENTROPY)
 
-_NUMBER = (int, float, np.integer, np.floating)
+NUMBER_TYPES = (int, float, np.integer, np.floating)
 
 
 class UncertaintyInputError(ValueError):
@@ -89,7 +89,7 @@ def _is_reaction_derived(sp: Species) -> bool:
     return hasattr(m, "level_data") and hasattr(m, "partners") and hasattr(m, "nu")
 
 
-def _kinds_of(sp: Species) -> tuple[str, str]:
+def kinds_of(sp: Species) -> tuple[str, str]:
     return (REACTION_ENTHALPY, REACTION_ENTROPY) if _is_reaction_derived(sp) else (FORMATION_ENTHALPY, ENTROPY)
 
 
@@ -148,9 +148,9 @@ def _class_matches(when: Mapping, sp: Species) -> bool:
     return True
 
 
-def _read_u(value, kind: str, where: str) -> float:
+def read_u(value, kind: str, where: str) -> float:
     """A standard uncertainty in SI from a number (SI) or a string with units."""
-    if isinstance(value, bool) or not isinstance(value, (*_NUMBER, str)):
+    if isinstance(value, bool) or not isinstance(value, (*NUMBER_TYPES, str)):
         raise UncertaintyInputError(f"{where}: expected a number [{UNITS[kind]}] or a quantity such as "
                                     f"{'0.4 kJ/mol' if kind not in _ENTROPY_KINDS else '0.1 J/(mol K)'}, "
                                     f"got {value!r}")
@@ -215,7 +215,7 @@ class UncertaintyDefaults:
             where = f"{origin}: key_values.{name}"
             if not isinstance(entry, Mapping):
                 raise UncertaintyInputError(f"{where}: expected a mapping of uncertainties")
-            keys[str(name)] = {k: _read_u(entry[k], k, f"{where}.{k}") for k in DATUM_KINDS if k in entry}
+            keys[str(name)] = {k: read_u(entry[k], k, f"{where}.{k}") for k in DATUM_KINDS if k in entry}
             keys[str(name)]["reference"] = str(entry.get("reference", ""))
         classes = []
         for i, entry in enumerate(doc.get("classes") or []):
@@ -225,7 +225,7 @@ class UncertaintyDefaults:
             unknown = [k for k in entry["when"] if k not in _WHEN_KEYS]
             if unknown:
                 raise UncertaintyInputError(f"{where}.when: unknown key(s) {unknown}; use {', '.join(_WHEN_KEYS)}")
-            values = {k: _read_u(entry[k], k, f"{where}.{k}") for k in DATUM_KINDS if k in entry}
+            values = {k: read_u(entry[k], k, f"{where}.{k}") for k in DATUM_KINDS if k in entry}
             classes.append({"class": str(entry.get("class", f"class {i}")), "when": dict(entry["when"]),
                             "values": values, "basis": str(entry.get("basis", "")).strip()})
         return cls(key_values=keys, classes=tuple(classes), references=dict(doc.get("references") or {}),
@@ -242,7 +242,7 @@ class UncertaintyDefaults:
         """Datum kind -> (standard uncertainty [SI], origin) from the key values (bundled
         records only) and the classes; kinds not covered are absent."""
         out = {}
-        kinds = _kinds_of(sp)
+        kinds = kinds_of(sp)
         key = self.key_values.get(sp.name)
         if key is not None and _is_bundled_record(sp):
             for k in kinds:
@@ -264,7 +264,7 @@ def _is_bundled_record(sp: Species) -> bool:
                          and type(ref.model) is type(sp.model))
 
 
-def _normalise_overrides(overrides: Mapping | None, db: SpeciesDatabase) -> dict:
+def normalise_overrides(overrides: Mapping | None, db: SpeciesDatabase) -> dict:
     """{species name: {kind: u [SI]}} from the user's mapping (strings with units allowed)."""
     out: dict[str, dict] = {}
     if not overrides:
@@ -280,14 +280,14 @@ def _normalise_overrides(overrides: Mapping | None, db: SpeciesDatabase) -> dict
         if not isinstance(entry, Mapping):
             raise UncertaintyInputError(f"{where}: give a mapping such as "
                                         "{formation_enthalpy: '0.4 kJ/mol', entropy: '0.1 J/(mol K)'}")
-        kinds = _kinds_of(db.species[resolved])
+        kinds = kinds_of(db.species[resolved])
         vals = {}
         for k, v in entry.items():
             if k not in kinds:
                 raise UncertaintyInputError(
                     f"{where}.{k}: {resolved} takes {' and '.join(kinds)}"
                     + (" (it is defined by reaction-level data)" if kinds[0] == REACTION_ENTHALPY else ""))
-            vals[k] = _read_u(v, k, f"{where}.{k}")
+            vals[k] = read_u(v, k, f"{where}.{k}")
         out.setdefault(resolved, {}).update(vals)
     return out
 
@@ -317,19 +317,19 @@ def species_uncertainty(sp: Species, *, overrides: Mapping | None = None,
     >>> u["formation_enthalpy"].u, u["entropy"].u, u["entropy"].origin
     (350.0, 0.2, 'user')
     """
-    defaults = defaults or _bundled_defaults()
+    defaults = defaults or bundled_defaults()
     out = {}
     from_file = sp.uncertainty or {}
     unknown = [k for k in from_file if k not in DATUM_KINDS + ("reference", "note")]
     if unknown:
         raise UncertaintyInputError(f"species {sp.name}: unknown key(s) {unknown} in its 'uncertainty:' block; "
-                                    f"use {', '.join(_kinds_of(sp))} (and optionally reference, note)")
+                                    f"use {', '.join(kinds_of(sp))} (and optionally reference, note)")
     found = defaults.lookup(sp)
-    for k in _kinds_of(sp):
+    for k in kinds_of(sp):
         if overrides and k in overrides:
-            out[k] = UncertainDatum(sp.name, k, _read_u(overrides[k], k, f"overrides.{sp.name}.{k}"), "user")
+            out[k] = UncertainDatum(sp.name, k, read_u(overrides[k], k, f"overrides.{sp.name}.{k}"), "user")
         elif k in from_file:
-            out[k] = UncertainDatum(sp.name, k, _read_u(from_file[k], k, f"species {sp.name}: uncertainty.{k}"),
+            out[k] = UncertainDatum(sp.name, k, read_u(from_file[k], k, f"species {sp.name}: uncertainty.{k}"),
                                     "species file" + (f" ({from_file['reference']})" if from_file.get("reference")
                                                       else ""))
         elif k in found:
@@ -342,6 +342,6 @@ def species_uncertainty(sp: Species, *, overrides: Mapping | None = None,
 
 
 @functools.lru_cache(maxsize=1)
-def _bundled_defaults() -> UncertaintyDefaults:
+def bundled_defaults() -> UncertaintyDefaults:
     """The bundled defaults, read once per process (the object is immutable)."""
     return UncertaintyDefaults.bundled()

@@ -34,6 +34,33 @@ T_REF = 298.15
 P_STANDARD = 1.0e5
 
 
+def nasa7_heat_capacity_enthalpy(a, T):
+    """cp/R and h/RT from NASA 7-coefficient rows ``a`` (..., 7) at T [K] (broadcast with
+    ``a[..., 0]``), in Horner form; the one place these polynomials are written.
+
+    ``cp/R = a1 + a2 T + a3 T² + a4 T³ + a5 T⁴``;
+    ``h/RT = a1 + a2 T/2 + a3 T²/3 + a4 T³/4 + a5 T⁴/5 + a6/T`` (NASA TM-4513, 1993).
+    """
+    a1, a2, a3, a4, a5, a6 = (a[..., k] for k in range(6))
+    cp = a1 + T * (a2 + T * (a3 + T * (a4 + T * a5)))
+    h = a1 + T * (a2 / 2 + T * (a3 / 3 + T * (a4 / 4 + T * a5 / 5))) + a6 / T
+    return cp, h
+
+
+def nasa7_entropy(a, T):
+    """s/R = a1 ln T + a2 T + a3 T²/2 + a4 T³/3 + a5 T⁴/4 + a7 from rows ``a`` (..., 7) at T [K]."""
+    a1, a2, a3, a4, a5, a7 = (a[..., k] for k in (0, 1, 2, 3, 4, 6))
+    return a1 * np.log(T) + T * (a2 + T * (a3 / 2 + T * (a4 / 3 + T * a5 / 4))) + a7
+
+
+def nasa7_gibbs_RT(a, T):
+    """g°/RT = h/RT − s/R from rows ``a`` (..., 7) at T [K], evaluated directly (Horner form):
+    ``a1 (1 − ln T) − a2 T/2 − a3 T²/6 − a4 T³/12 − a5 T⁴/20 + a6/T − a7``."""
+    a1, a2, a3, a4, a5, a6, a7 = (a[..., k] for k in range(7))
+    poly = (((-a5 / 20.0 * T - a4 / 12.0) * T - a3 / 6.0) * T - a2 / 2.0) * T
+    return a1 * (1.0 - np.log(T)) + poly + a6 / T - a7
+
+
 @dataclass(frozen=True)
 class Nasa7Polynomial:
     """NASA 7-coefficient polynomial over contiguous temperature ranges.
@@ -95,12 +122,8 @@ class Nasa7Polynomial:
         """Return (cp/R, h/RT, s/R) at T [K]; each the shape of T."""
         T = np.asarray(T, dtype=float)
         a = self._rows(T)
-        a1, a2, a3, a4, a5, a6, a7 = np.moveaxis(a, -1, 0)
-        T2, T3, T4 = T * T, T ** 3, T ** 4
-        cp = a1 + a2 * T + a3 * T2 + a4 * T3 + a5 * T4
-        h = a1 + a2 * T / 2 + a3 * T2 / 3 + a4 * T3 / 4 + a5 * T4 / 5 + a6 / T
-        s = a1 * np.log(T) + a2 * T + a3 * T2 / 2 + a4 * T3 / 3 + a5 * T4 / 4 + a7
-        return cp, h, s
+        cp, h = nasa7_heat_capacity_enthalpy(a, T)
+        return cp, h, nasa7_entropy(a, T)
 
     def heat_capacity(self, T):
         """Standard molar heat capacity cp° [J/(mol K)] at T [K]."""
@@ -121,18 +144,87 @@ class Nasa7Polynomial:
         g/RT = a1 (1 - ln T) - a2 T/2 - a3 T²/6 - a4 T³/12 - a5 T⁴/20 + a6/T - a7.
         """
         T = np.asarray(T, dtype=float)
-        if len(self.T_bounds) == 2:
-            a1, a2, a3, a4, a5, a6, a7 = self.coefficients[0]
-        else:
-            a1, a2, a3, a4, a5, a6, a7 = np.moveaxis(self._rows(T), -1, 0)
-        poly = (((-a5 / 20.0 * T - a4 / 12.0) * T - a3 / 6.0) * T - a2 / 2.0) * T
-        return a1 * (1.0 - np.log(T)) + poly + a6 / T - a7
+        return nasa7_gibbs_RT(self.coefficients[0] if len(self.T_bounds) == 2 else self._rows(T), T)
 
     def shifted_entropy(self, delta_s_R: float) -> "Nasa7Polynomial":
         """Same polynomial with s/R shifted by ``delta_s_R`` (standard-pressure change)."""
         coeffs = np.array(self.coefficients)
         coeffs[:, 6] += delta_s_R
         return Nasa7Polynomial(self.T_bounds, coeffs)
+
+
+@dataclass(frozen=True)
+class Nasa7Table:
+    """NASA 7-coefficient polynomials of several species packed into arrays, evaluated over
+    species × states in one call: the one batched NASA-7 evaluator of the package.
+
+    Attributes
+    ----------
+    coefficients : ndarray, shape (n_species, n_max, 7)
+        ``a1..a7`` per range, lowest first; rows past a species' last range are zero.
+    bounds : ndarray, shape (n_species, n_max + 1)
+        Range boundaries [K]; +inf past a species' last boundary.
+    n_ranges : ndarray of int64, shape (n_species,)
+        Number of ranges per species.
+
+    The arrays are the packed form the compiled fixed-enthalpy kernel takes.  Outside a
+    species' range the end ranges extend outwards, as in :class:`Nasa7Polynomial`.
+
+    Examples
+    --------
+    >>> n2 = Nasa7Polynomial((200.0, 1000.0, 6000.0), [
+    ...     [3.53100528, -1.23660988e-04, -5.02999433e-07, 2.43530612e-09,
+    ...      -1.40881235e-12, -1046.97628, 2.96747038],
+    ...     [2.95257637, 1.3969004e-03, -4.92631603e-07, 7.86010195e-11,
+    ...      -4.60755204e-15, -923.948688, 5.87188762]])
+    >>> table = Nasa7Table.from_polynomials([n2, n2])
+    >>> cp, h, s = table.dimensionless([298.15, 1500.0])
+    >>> s.shape, round(float(R * s[0, 0]), 2)
+    ((2, 2), 191.61)
+    """
+
+    coefficients: np.ndarray = field(repr=False)
+    bounds: np.ndarray = field(repr=False)
+    n_ranges: np.ndarray
+
+    @classmethod
+    def from_polynomials(cls, polynomials) -> "Nasa7Table":
+        """Pack a sequence of :class:`Nasa7Polynomial` (one per species)."""
+        n_ranges = np.array([p.coefficients.shape[0] for p in polynomials], dtype=np.int64)
+        n_max = int(n_ranges.max()) if n_ranges.size else 1
+        coeffs = np.zeros((len(polynomials), n_max, 7))
+        bounds = np.full((len(polynomials), n_max + 1), np.inf)
+        for j, p in enumerate(polynomials):
+            coeffs[j, :n_ranges[j]] = p.coefficients
+            bounds[j, :n_ranges[j] + 1] = p.T_bounds
+        for a in (coeffs, bounds, n_ranges):
+            a.setflags(write=False)
+        return cls(coeffs, bounds, n_ranges)
+
+    def rows(self, T) -> np.ndarray:
+        """Coefficient rows, shape (*T.shape, n_species, 7), for temperatures T [K]."""
+        T = np.asarray(T, dtype=float)
+        inner = self.bounds[:, 1:-1]                                         # (ns, n_max - 1)
+        valid = np.arange(inner.shape[1])[None, :] < (self.n_ranges - 1)[:, None]
+        idx = ((T[..., None, None] > inner) & valid).sum(axis=-1)            # (*T.shape, ns)
+        return self.coefficients[np.arange(self.n_ranges.size), idx]
+
+    def dimensionless(self, T):
+        """(cp/R, h/RT, s/R), each shape (*T.shape, n_species), at T [K]."""
+        T = np.asarray(T, dtype=float)
+        a, Tc = self.rows(T), T[..., None]
+        cp, h = nasa7_heat_capacity_enthalpy(a, Tc)
+        return cp, h, nasa7_entropy(a, Tc)
+
+    def heat_capacity_enthalpy(self, T):
+        """(cp/R, h/RT), each shape (*T.shape, n_species), at T [K]."""
+        T = np.asarray(T, dtype=float)
+        return nasa7_heat_capacity_enthalpy(self.rows(T), T[..., None])
+
+    def gibbs_RT(self, T) -> np.ndarray:
+        """g°/RT, shape (*T.shape, n_species), at T [K]."""
+        T = np.asarray(T, dtype=float)
+        return nasa7_gibbs_RT(self.rows(T), T[..., None])
 
 
 class EnthalpyEntropyModel:

@@ -29,6 +29,27 @@ class ReactionError(ValueError):
     """A reaction string cannot be read, or its elements do not balance."""
 
 
+def absolute_temperature(T) -> np.ndarray:
+    """T [K] as a float array, refused (ReactionError) unless finite and above 0 K.
+
+    K(T) = exp(-ΔrG°/RT) has no meaning at or below absolute zero, and a NaN temperature
+    would silently give a NaN constant.
+
+    Examples
+    --------
+    >>> absolute_temperature("25 degC")
+    array(298.15)
+    >>> absolute_temperature(0.0)
+    Traceback (most recent call last):
+    ...
+    eqdesign.thermo.reactions.ReactionError: T must be finite and above 0 K for an equilibrium constant, got 0.0
+    """
+    arr = np.asarray(to_kelvin(T), dtype=float)
+    if np.any(~np.isfinite(arr)) or np.any(arr <= 0):
+        raise ReactionError(f"T must be finite and above 0 K for an equilibrium constant, got {T!r}")
+    return arr
+
+
 @functools.lru_cache(maxsize=1)
 def bundled_database() -> SpeciesDatabase:
     """The bundled species database, read once per process (it is immutable)."""
@@ -158,8 +179,8 @@ class Reaction:
         return _float_or_array(self._sum("gibbs", T))
 
     def ln_K(self, T):
-        """Natural logarithm of the dimensionless equilibrium constant at T [K]."""
-        T = np.asarray(to_kelvin(T), dtype=float)
+        """Natural logarithm of the dimensionless equilibrium constant at T [K] (finite, > 0)."""
+        T = absolute_temperature(T)
         return _float_or_array(-self._sum("gibbs_RT", T))
 
     def equilibrium_constant(self, T):
@@ -260,7 +281,8 @@ class ReactionLevelData:
         return _float_or_array(np.asarray(self.delta_h_at(T)) - T * np.asarray(self.delta_s_at(T)))
 
     def ln_K(self, T):
-        T = np.asarray(to_kelvin(T), dtype=float)
+        """Natural logarithm of the dimensionless equilibrium constant at T [K] (finite, > 0)."""
+        T = absolute_temperature(T)
         return _float_or_array(-np.asarray(self.delta_g_at(T)) / (R * T))
 
     def equilibrium_constant(self, T):
@@ -411,7 +433,8 @@ def equilibrium_constant(reaction: str | Reaction, T, *, database: SpeciesDataba
     reaction : str | Reaction
         E.g. ``"N2 + 3 H2 = 2 NH3"``.
     T : float | array_like | str | pint.Quantity
-        Temperature [K], or a quantity such as ``"450 degC"``.
+        Temperature [K], or a quantity such as ``"450 degC"``; finite and above 0 K
+        (ReactionError otherwise).
     database : SpeciesDatabase, optional
         Defaults to the bundled database.
 
@@ -430,4 +453,4 @@ def equilibrium_constant(reaction: str | Reaction, T, *, database: SpeciesDataba
     '8.778e-05'
     """
     rxn = reaction if isinstance(reaction, Reaction) else Reaction.parse(reaction, database)
-    return rxn.equilibrium_constant(T)
+    return rxn.equilibrium_constant(absolute_temperature(T))

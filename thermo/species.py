@@ -7,7 +7,7 @@ from typing import Union
 
 import numpy as np
 
-from .models import R, FormationDataModel, Nasa7Polynomial
+from .models import R, FormationDataModel, Nasa7Polynomial, Nasa7Table
 
 ThermoModel = Union[Nasa7Polynomial, FormationDataModel]
 
@@ -131,8 +131,8 @@ class Species:
 def standard_gibbs_RT(species, T) -> np.ndarray:
     """g°/RT of several species at once, shape (len(T), len(species)).
 
-    NASA polynomials with two ranges (most gases) are evaluated together by
-    broadcasting; other models species by species.  Warns like
+    NASA polynomials are evaluated together (:class:`~eqdesign.thermo.models.Nasa7Table`);
+    other models species by species.  Warns like
     :meth:`Species.check_temperature` for temperatures outside a species' range.
 
     Parameters
@@ -151,22 +151,14 @@ def standard_gibbs_RT(species, T) -> np.ndarray:
     if T.size == 0:
         return out
     t_lo, t_hi = T.min(), T.max()
-    pairs = []
+    nasa = []
     for j, sp in enumerate(species):
         if t_lo < sp.T_min - 2.0 or t_hi > sp.T_max + 1e-9:
             sp.check_temperature(T)
-        m = sp.model
-        if isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 3:
-            pairs.append(j)
+        if isinstance(sp.model, Nasa7Polynomial):
+            nasa.append(j)
         else:
-            out[:, j] = m.gibbs_RT(T)
-    if pairs:
-        lo = np.array([species[j].model.coefficients[0] for j in pairs])    # (k, 7)
-        hi = np.array([species[j].model.coefficients[1] for j in pairs])
-        mid = np.array([species[j].model.T_bounds[1] for j in pairs])
-        a = np.where((T[:, None] > mid[None, :])[:, :, None], hi[None], lo[None])   # (p, k, 7)
-        Tc = T[:, None]
-        poly = (((-a[..., 4] / 20.0 * Tc - a[..., 3] / 12.0) * Tc - a[..., 2] / 6.0) * Tc
-                - a[..., 1] / 2.0) * Tc
-        out[:, pairs] = a[..., 0] * (1.0 - np.log(Tc)) + poly + a[..., 5] / Tc - a[..., 6]
+            out[:, j] = sp.model.gibbs_RT(T)
+    if nasa:
+        out[:, nasa] = Nasa7Table.from_polynomials([species[j].model for j in nasa]).gibbs_RT(T)
     return out

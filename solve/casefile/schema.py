@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Mapping
 
 import numpy as np
 
@@ -13,7 +12,7 @@ from ...thermo.species import Species
 from ...thermo.data_uncertainty import DATUM_KINDS
 from ..studies.uncertainty import SETTINGS_KEYS
 from ..studies.uncertainty import UncertaintySettings
-from ..studies.feeds import hydrocarbon_carbon
+from ..studies.feeds import FeedRatio
 
 
 LAYOUT_ID = "eqdesign-case/1"
@@ -74,50 +73,6 @@ class Grid:
         if n <= 1 or self.high == self.low:
             return np.array([self.low]) if n <= 1 else np.linspace(self.low, self.high, n)
         return np.linspace(self.low, self.high, n)
-
-
-@dataclass(frozen=True)
-class FeedRatio:
-    """A feed ratio varied in a study, e.g. steam-to-carbon: ``vary`` H2O ``per`` carbon.
-
-    Attributes
-    ----------
-    vary : str
-        Feed species whose amount is set by the ratio.
-    per : str
-        ``"carbon"`` (carbon atoms of the feed species holding carbon and hydrogen, the
-        usual steam-to-carbon basis; ``vary`` must then be H2O) or a feed species name
-        (mol per mol).
-    values : tuple[float, ...]
-        Ratios [mol/mol] (for a study grid); empty for a target search.
-    label : str
-        Text for tables and axes, e.g. ``"steam-to-carbon ratio"``.
-    """
-
-    vary: str
-    per: str
-    values: tuple = ()
-    label: str = ""
-
-    def basis(self, feed: Mapping[str, float], database: SpeciesDatabase) -> float:
-        """Amount [mol] of the ratio's denominator in ``feed``: a species, or the carbon
-        atoms of the feed species holding both carbon and hydrogen (as
-        :func:`eqdesign.solve.studies.feeds.hydrocarbon_carbon` counts them)."""
-        if self.per == "carbon":
-            return float(hydrocarbon_carbon(feed, database))
-        return float(feed.get(self.per, 0.0))
-
-    def current(self, feed: Mapping[str, float], database: SpeciesDatabase) -> float:
-        """The ratio [mol/mol] in ``feed`` as given."""
-        return float(feed.get(self.vary, 0.0)) / self.basis(feed, database)
-
-    def feed_at(self, feed: Mapping[str, float], ratio, database: SpeciesDatabase) -> dict:
-        """``feed`` with the amount of ``vary`` set to ``ratio`` × basis [mol]."""
-        out = dict(feed)
-        out[self.vary] = np.asarray(ratio, dtype=float) * self.basis(feed, database)
-        if np.ndim(out[self.vary]) == 0:
-            out[self.vary] = float(out[self.vary])
-        return out
 
 
 @dataclass(frozen=True)

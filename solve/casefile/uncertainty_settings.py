@@ -11,8 +11,8 @@ from ...thermo.data_uncertainty import METHODS
 from ..studies.uncertainty import SETTINGS_KEYS
 from ...thermo.data_uncertainty import UncertaintyInputError
 from ..studies.uncertainty import UncertaintySettings
-from ...thermo.data_uncertainty import _NUMBER
-from ...thermo.data_uncertainty import _read_u
+from ...thermo.data_uncertainty import NUMBER_TYPES
+from ...thermo.data_uncertainty import read_u
 
 
 def settings_from_mapping(mapping: Mapping | None, *, where: str = "uncertainty") -> UncertaintySettings:
@@ -53,7 +53,7 @@ def settings_from_mapping(mapping: Mapping | None, *, where: str = "uncertainty"
             lv = float(level.strip().rstrip("%").strip()) / 100.0
         except ValueError:
             lv = None
-    elif isinstance(level, _NUMBER) and not isinstance(level, bool):
+    elif isinstance(level, NUMBER_TYPES) and not isinstance(level, bool):
         lv = float(level)
     if lv is None or not 0.5 <= lv < 1.0:
         problems.append(f"{where}.level: give a coverage probability from 0.5 to below 1 (e.g. 0.95 or '95 %'), "
@@ -73,7 +73,7 @@ def settings_from_mapping(mapping: Mapping | None, *, where: str = "uncertainty"
                     problems.append(f"{where}.overrides.{name}.{k}: unknown datum; use {', '.join(DATUM_KINDS)}")
                     continue
                 try:
-                    _read_u(v, k, f"{where}.overrides.{name}.{k}")
+                    read_u(v, k, f"{where}.overrides.{name}.{k}")
                 except UncertaintyInputError as exc:
                     problems.append(str(exc))
     defaults = mapping.get("defaults")

@@ -19,26 +19,18 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import P_STANDARD, R, Nasa7Polynomial
-from ...thermo.reactions import Reaction, bundled_database
+from ...thermo.models import Nasa7Polynomial, Nasa7Table, P_STANDARD, R
+from ...thermo.reactions import bundled_database
 from ...thermo.species import standard_gibbs_RT
-from ...thermo.units import to_kelvin, to_pascal, to_si
-from .result import CondensationWarning
-from .newton import CoreOutcome
-from .result import EquilibriumInputError
-from .result import EquilibriumResult
-from .fugacity import FugacityModel
-from .result import GAS_MODELS
-from .result import NotConvergedWarning
-from .problem import _linear_estimate
-from .problem import _reachable
-from .problem import _row_basis
 from . import compiled as compiled_core
-from .problem import element_matrix
-from .newton import initial_state
-from .problem import invariant_basis
-from .newton import minimise_gibbs
-from .problem import stoichiometric_matrix
+from .fugacity import FugacityModel
+from .inputs import (broadcast_shape, feed_mapping, mapping_or_none, positive_number, pressures, quantity,
+                     reaction_list, species_names, temperatures, whole_number)
+from .newton import CoreOutcome, initial_state, minimise_gibbs
+from .problem import (element_matrix, invariant_basis, linear_estimate, reachable_species, row_basis,
+                      stoichiometric_matrix)
+from .result import (CondensationWarning, EquilibriumInputError, EquilibriumResult, GAS_MODELS,
+                     NotConvergedWarning)
 
 
 def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, tolerance, max_iterations):
@@ -46,13 +38,9 @@ def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, toleranc
     if compiled_core is None or not all(isinstance(sp.model, Nasa7Polynomial) for sp in records):
         raise EquilibriumInputError("fixed-enthalpy solves need NASA-polynomial data for every "
                                     "species; use adiabatic_equilibrium for other data")
-    ns = len(records)
-    n_ranges = np.array([sp.model.coefficients.shape[0] for sp in records], dtype=np.int64)
-    coeffs = np.zeros((ns, n_ranges.max(), 7))
-    bounds = np.full((ns, n_ranges.max() + 1), np.inf)
-    for j, sp in enumerate(records):
-        coeffs[j, :n_ranges[j]] = sp.model.coefficients
-        bounds[j, :n_ranges[j] + 1] = sp.model.T_bounds
+    table = Nasa7Table.from_polynomials([sp.model for sp in records])
+    # writable copies: the compiled kernel is specialised on writable arrays
+    coeffs, bounds, n_ranges = (np.array(a) for a in (table.coefficients, table.bounds, table.n_ranges))
     p, nG, nC, m = b.shape[0], A_gas.shape[1], A_cond.shape[1], A_gas.shape[0]
     state = initial_state(p, nG, nC, m)
     ln_T = np.log(np.asarray(T_start, dtype=float)).copy()
@@ -75,6 +63,63 @@ def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, toleranc
     return out, np.where(converged, T, np.nan)
 
 
+def _read_states(db, species, feed, T, P, rxns, g0_shift, enthalpy, gas_model):
+    """Species names and records, and every state's inputs checked and broadcast.
+
+    Returns (names, records, shape, n0 (p, ns) [mol], T (p,) [K], P broadcast to shape [Pa],
+    H (p,) [J] or None, g0 shifts by species [J/mol]); EquilibriumInputError naming the
+    argument for any bad value.
+    """
+    names: list[str] = []
+    for n in list(species) + list(feed):
+        resolved = db.resolve(n)
+        if resolved not in names:
+            names.append(resolved)
+    for r in rxns:
+        for n in r.names:
+            if n not in names:
+                names.append(n)
+    records = [db.species[n] for n in names]
+    ns = len(names)
+
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    feed_arrays = {db.resolve(k): quantity(v, "amount", f"feed of {k}") for k, v in feed.items()}
+    shift_arrays = {db.resolve(k): quantity(v, "molar_energy", f"g0_shift of {k}") for k, v in (g0_shift or {}).items()}
+    H_arr = None if enthalpy is None else quantity(enthalpy, "energy", "enthalpy")
+    shape = broadcast_shape(T=T_arr, P=P_arr, **{f"feed of {k}": a for k, a in feed_arrays.items()},
+                            **{f"g0_shift of {k}": a for k, a in shift_arrays.items()},
+                            **({} if H_arr is None else {"enthalpy": H_arr}))
+    T_b = np.broadcast_to(T_arr, shape)
+    P_b = np.broadcast_to(P_arr, shape)
+    n_points = int(np.prod(shape)) if shape else 1
+    n0 = np.zeros((n_points, ns))
+    for name, arr in feed_arrays.items():
+        v = np.broadcast_to(arr, shape).reshape(n_points)
+        if np.any(v < 0) or np.any(~np.isfinite(v)):
+            raise EquilibriumInputError(f"feed of {name} must be finite and non-negative")
+        n0[:, names.index(name)] = v
+    total_feed = n0.sum(axis=1)
+    if np.any(total_feed <= 0):
+        raise EquilibriumInputError("the feed is empty (all amounts zero) at some state")
+    if np.any(total_feed < np.finfo(float).tiny):
+        raise EquilibriumInputError(f"the feed total is below {np.finfo(float).tiny:.3g} mol (the smallest "
+                                    "normal float) at some state; scale the amounts up (the equilibrium "
+                                    "composition does not depend on the scale)")
+    Tf = T_b.reshape(n_points).copy()
+    Pf = P_b.reshape(n_points)
+    Hf = None
+    if H_arr is not None:
+        if gas_model != "ideal" or shift_arrays:
+            raise EquilibriumInputError("fixed-enthalpy solves take the ideal gas and no g0_shift; "
+                                        "use adiabatic_equilibrium for the general case")
+        Hf = np.broadcast_to(H_arr, shape).reshape(n_points)
+    return names, records, shape, n0, Tf, P_b, Hf, shift_arrays
+
+
+
+# Stays long: one sequential pass (conservation rows, solve per feed pattern, second chance for
+# stragglers, result); the input checks live in _read_states.
 def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 reactions: Sequence[str] | None = None, gas_model: str = "ideal",
                 key: str | None = None, database: SpeciesDatabase | None = None,
@@ -138,50 +183,22 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     db = database or bundled_database()
     if gas_model not in GAS_MODELS:
         raise EquilibriumInputError(f"gas_model {gas_model!r}: use one of {', '.join(GAS_MODELS)}")
-    rxns = tuple(Reaction.parse(r, db) if isinstance(r, str) else r for r in (reactions or ()))
-    names: list[str] = []
-    for n in list(species) + list(feed):
-        resolved = db.resolve(n)
-        if resolved not in names:
-            names.append(resolved)
-    for r in rxns:
-        for n in r.names:
-            if n not in names:
-                names.append(n)
-    records = [db.species[n] for n in names]
-    ns = len(names)
-
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    feed_arrays = {db.resolve(k): np.asarray(to_si(v, "amount"), dtype=float) for k, v in feed.items()}
-    shift_arrays = {db.resolve(k): np.asarray(v, dtype=float) for k, v in (g0_shift or {}).items()}
-    H_arr = None if enthalpy is None else np.asarray(to_si(enthalpy, "energy"), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, *(a.shape for a in feed_arrays.values()),
-                                *(a.shape for a in shift_arrays.values()),
-                                *(() if H_arr is None else (H_arr.shape,)))
-    T_b = np.broadcast_to(T_arr, shape)
-    P_b = np.broadcast_to(P_arr, shape)
-    if np.any(~np.isfinite(T_b)) or np.any(T_b <= 0):
-        raise EquilibriumInputError("temperatures must be finite and above 0 K")
-    if np.any(~np.isfinite(P_b)) or np.any(P_b <= 0):
-        raise EquilibriumInputError("pressures must be finite and above 0 Pa")
-    n_points = int(np.prod(shape)) if shape else 1
-    n0 = np.zeros((n_points, ns))
-    for name, arr in feed_arrays.items():
-        v = np.broadcast_to(arr, shape).reshape(n_points)
-        if np.any(v < 0) or np.any(~np.isfinite(v)):
-            raise EquilibriumInputError(f"feed of {name} must be finite and non-negative")
-        n0[:, names.index(name)] = v
-    total_feed = n0.sum(axis=1)
-    if np.any(total_feed <= 0):
-        raise EquilibriumInputError("the feed is empty (all amounts zero) at some state")
-    Tf = T_b.reshape(n_points).copy()
+    species = species_names(species)
+    feed = feed_mapping(feed)
+    rxns = reaction_list(reactions, db)
+    if key is not None and not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be a species name (text), got {key!r}")
+    if initial is not None and not isinstance(initial, EquilibriumResult):
+        raise EquilibriumInputError(f"initial must be an EquilibriumResult of an earlier solve, got "
+                                    f"{type(initial).__name__}")
+    tolerance = positive_number(tolerance, "tolerance")
+    max_iterations = whole_number(max_iterations, "max_iterations", 1)
+    mapping_or_none(g0_shift, "g0_shift", "{'NH3': 500.0} (J/mol)")
+    names, records, shape, n0, Tf, P_b, Hf, shift_arrays = _read_states(
+        db, species, feed, T, P, rxns, g0_shift, enthalpy, gas_model)
+    ns, n_points = len(names), Tf.size
     Pf = P_b.reshape(n_points)
-    if H_arr is not None:
-        if gas_model != "ideal" or shift_arrays:
-            raise EquilibriumInputError("fixed-enthalpy solves take the ideal gas and no g0_shift; "
-                                        "use adiabatic_equilibrium for the general case")
-        Hf = np.broadcast_to(H_arr, shape).reshape(n_points)
+    total_feed = n0.sum(axis=1)
 
     # standard chemical potentials, (p, ns)
     g0 = standard_gibbs_RT(records, Tf)
@@ -219,13 +236,13 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     for code, i0 in first.items():
         pattern = present_feed[i0]
         rows = np.arange(n_points) if len(first) == 1 else np.flatnonzero(codes == code)
-        reach = _reachable(C, pattern.astype(float), nonneg)
+        reach = reachable_species(C, pattern.astype(float), nonneg)
         gas_cols = np.flatnonzero(reach & is_gas)
         cond_cols = np.flatnonzero(reach & ~is_gas)
         if gas_cols.size == 0:
             raise EquilibriumInputError("no gas species can be present; add a gas species")
         cols = np.concatenate([gas_cols, cond_cols])
-        basis = _row_basis(C[:, cols])
+        basis = row_basis(C[:, cols])
         scale = total_feed[rows]
         b = (n0[rows][:, cols] / scale[:, None]) @ basis.T
         A_gas = basis[:, :gas_cols.size]
@@ -246,7 +263,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
 
             def fug(sub, y, _gi=gas_index, _T=Tg, _P=Pg):
                 return eos.ln_phi(_T[sub], _P[sub], y, _gi)
-        if H_arr is not None:
+        if Hf is not None:
             out, T_solved = _solve_fixed_enthalpy([records[c] for c in cols], A_gas, A_cond, b,
                                                   np.log(Pf[rows] / P_STANDARD),
                                                   Hf[rows] / (R * scale), Tf[rows], tolerance,
@@ -263,7 +280,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
             # could not replace
             bad = np.flatnonzero(~out.converged)
             if bad.size:
-                retry = _linear_estimate(g0[rows][bad][:, cols], basis, b[bad], gas_cols.size)
+                retry = linear_estimate(g0[rows][bad][:, cols], basis, b[bad], gas_cols.size)
                 fug2 = None
                 if eos is not None:
                     def fug2(sub, y, _gi=gas_index, _T=Tf[rows][bad], _P=Pf[rows][bad]):

@@ -9,14 +9,22 @@ from __future__ import annotations
 from typing import Sequence
 
 import numpy as np
+from scipy.optimize import linprog
 
 from ...thermo.reactions import Reaction
-from .newton import CoreState
-from .newton import initial_state
-from scipy.optimize import linprog
+from .newton import CoreState, initial_state
 
 
 def stoichiometric_matrix(reactions: Sequence[Reaction], species: Sequence[str]) -> np.ndarray:
+    """The stoichiometric matrix N[i, j] = ν of species i in reaction j [-], shape
+    (n_species, n_reactions); the one builder of N in the package.
+
+    Examples
+    --------
+    >>> from eqdesign.thermo.reactions import Reaction
+    >>> stoichiometric_matrix([Reaction.parse("N2 + 3 H2 = 2 NH3")], ["N2", "H2", "NH3"]).ravel().tolist()
+    [-1.0, -3.0, 2.0]
+    """
     N = np.zeros((len(species), len(reactions)))
     for j, r in enumerate(reactions):
         for name, nu in zip(r.names, r.coefficients):
@@ -48,7 +56,7 @@ def invariant_basis(N: np.ndarray, tol: float = 1e-10) -> np.ndarray:
     return u[:, rank:].T.copy()
 
 
-def _row_basis(C: np.ndarray, tol: float = 1e-10) -> np.ndarray:
+def row_basis(C: np.ndarray, tol: float = 1e-10) -> np.ndarray:
     if C.size == 0:
         return C
     u, s, vt = np.linalg.svd(C, full_matrices=False)
@@ -56,7 +64,7 @@ def _row_basis(C: np.ndarray, tol: float = 1e-10) -> np.ndarray:
     return vt[:rank]
 
 
-def _reachable(C: np.ndarray, n0: np.ndarray, nonneg: bool) -> np.ndarray:
+def reachable_species(C: np.ndarray, n0: np.ndarray, nonneg: bool) -> np.ndarray:
     """Species that can be positive in some state with C n = C n0, n >= 0."""
     ns = C.shape[1]
     if nonneg:   # element mode: a species may form iff each of its elements is present
@@ -72,7 +80,7 @@ def _reachable(C: np.ndarray, n0: np.ndarray, nonneg: bool) -> np.ndarray:
     return ok
 
 
-def _linear_estimate(g0: np.ndarray, C: np.ndarray, b: np.ndarray, n_gas: int) -> CoreState:
+def linear_estimate(g0: np.ndarray, C: np.ndarray, b: np.ndarray, n_gas: int) -> CoreState:
     """Starting states from ``min Σ g°_j n_j  s.t.  C n = b, n >= 0`` (one small linear
     program per state; used only for states that failed from the usual starts)."""
     p, ns = g0.shape

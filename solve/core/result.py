@@ -60,7 +60,8 @@ class EquilibriumResult:
         Feed amounts [mol].
     converged : ndarray of bool
     iterations : ndarray of int
-        Newton iterations used (all phase-set rounds together).
+        Newton iterations used (all phase-set rounds together, plus those of the restart
+        from the linear-programming estimate where a state needed it).
     max_residual : ndarray
         Largest scaled residual at the end (conservation and chemical-potential steps).
     reactions : tuple[Reaction, ...]
@@ -149,7 +150,10 @@ class EquilibriumResult:
 
     # ----------------------------------------------------------------- reactions
     def conversion(self, key: str | None = None):
-        """Fractional conversion of a reactant, (n_in - n_out) / n_in [-]."""
+        """Fractional conversion of a reactant, (n_in - n_out) / n_in [-].
+
+        Refused (EquilibriumInputError) where the key is not fed: its conversion is undefined.
+        """
         key = key or self.key
         if key is None:
             raise EquilibriumInputError("name the key reactant: conversion('N2')")
@@ -157,6 +161,9 @@ class EquilibriumResult:
             raise EquilibriumInputError(f"key reactant {key!r} is not among the species {list(self.species)}")
         k = self.species.index(key)
         n0 = self.feed_array[..., k]
+        if np.any(n0 <= 0):
+            raise EquilibriumInputError(f"key reactant {key!r} is not in the feed (at {int(np.sum(n0 <= 0))} "
+                                        "state(s)), so its conversion is undefined; feed it or choose another key")
         with np.errstate(invalid="ignore", divide="ignore"):
             x = (n0 - self.amount_array[..., k]) / n0
         return float(x) if np.ndim(x) == 0 else x

@@ -24,7 +24,7 @@ from typing import Callable
 
 import numpy as np
 
-from ..casefile.schema import FeedRatio
+from ..studies.feeds import FeedRatio
 
 from ...thermo.reactions import Reaction
 from ...thermo.species import ExtrapolationWarning
@@ -217,9 +217,9 @@ def _fmt_T(T: float) -> str:
 
 def _api_ratio(fr: FeedRatio):
     """The ratio in the form the sweep and design functions take."""
-    if fr.per == "carbon":
+    if fr.denominator == "carbon":
         return "steam_to_carbon"
-    return (fr.vary, fr.per)
+    return (fr.numerator, fr.denominator)
 
 
 def _subsample(values: np.ndarray, n: int) -> np.ndarray:
@@ -382,10 +382,10 @@ class _Run:
         P = np.atleast_1d(np.asarray(P, dtype=float))
         if feed_ratio is not None:
             values = np.asarray(ratios if ratios is not None else feed_ratio.values, dtype=float)
-            if feed_ratio.per == "carbon":
+            if feed_ratio.denominator == "carbon":
                 kw["steam_to_carbon"] = values
             else:
-                kw["feed_ratio"] = (feed_ratio.vary, feed_ratio.per, values)
+                kw["feed_ratio"] = (feed_ratio.numerator, feed_ratio.denominator, values)
             n_extra = values.size
         else:
             n_extra = 1

@@ -14,8 +14,8 @@ from ..studies.uncertainty import EquilibriumUncertainty
 from ..studies.intervals import TemperatureUncertainty
 from ...thermo.data_uncertainty import UncertaintyDefaults
 from ...thermo.data_uncertainty import UncertaintyInputError
-from ...thermo.data_uncertainty import _bundled_defaults
-from ..studies.uncertainty import _percent_labels
+from ...thermo.data_uncertainty import bundled_defaults
+from ..studies.uncertainty import percent_labels
 
 
 def _h(x) -> str:
@@ -91,10 +91,10 @@ def html_section(*, temperatures: Sequence[TemperatureUncertainty] = (),
               f"{first.samples} draws, seed {first.seed}" if first.method == "monte-carlo"
               else "linearised propagation (GUM, JCGM 100:2008) with sensitivity coefficients by finite differences")
     parts.append(f"<p>Method: {_h(method)}; intervals cover {100 * first.level:.3g} % "
-                 f"(from the {_percent_labels(first.level)[0]} to the {_percent_labels(first.level)[1]} "
+                 f"(from the {percent_labels(first.level)[0]} to the {percent_labels(first.level)[1]} "
                  f"point). Assumptions: {_h(ASSUMPTIONS)}.</p>")
     for t in temperatures:
-        lo, hi = _percent_labels(t.level)
+        lo, hi = percent_labels(t.level)
         rows = []
         for r in t.rows():
             rows.append([_num_cell(100 * r[f"target conversion {t.key} [-]"], ".4g"),
@@ -114,7 +114,7 @@ def html_section(*, temperatures: Sequence[TemperatureUncertainty] = (),
         q = e.quantities[0]
         T = np.asarray(e.T, dtype=float).reshape(-1)
         pick = np.unique(np.linspace(0, T.size - 1, min(band_points, T.size)).round().astype(int))
-        lo, hi = _percent_labels(e.level)
+        lo, hi = percent_labels(e.level)
         rows = []
         flat = {k: np.asarray(v, dtype=float).reshape(-1) for k, v in e.columns(q).items()}
         Pf = np.broadcast_to(np.asarray(e.P, dtype=float), np.shape(e.T)).reshape(-1)
@@ -129,7 +129,7 @@ def html_section(*, temperatures: Sequence[TemperatureUncertainty] = (),
     rows = [[_h(d.label), _num_cell(d.u, ".4g"), _h(d.unit), _h(d.origin)] for d in data]
     parts.append(_table(["datum", "standard uncertainty u", "unit", "source of u"], rows,
                         caption="Standard uncertainties used", text_cols=(0, 2, 3)))
-    defaults = defaults or _bundled_defaults()
+    defaults = defaults or bundled_defaults()
     cited = []
     for d in data:
         for key, ref in defaults.references.items():

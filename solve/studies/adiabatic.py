@@ -37,17 +37,12 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import R, Nasa7Polynomial
+from ...thermo.models import Nasa7Polynomial, R
 from ...thermo.reactions import bundled_database
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
-from ..core.result import NotConvergedWarning
-from .enthalpy import _MixtureEnthalpy
-from .enthalpy import _broadcast_inputs
-from .enthalpy import _composition_temperature_derivative
-from .enthalpy import _conservation_matrix
-from .enthalpy import _records_for
 from ..core.equilibrium import equilibrium
+from ..core.result import EquilibriumInputError, EquilibriumResult, NotConvergedWarning
+from .enthalpy import (MixtureEnthalpy, broadcast_inputs, composition_temperature_derivative,
+                       conservation_matrix, records_for)
 
 
 #: The caution that goes with every adiabatic-bed answer (see the module docstring).
@@ -73,7 +68,9 @@ class AdiabaticResult:
         approach to equilibrium was asked for; its own ``.T`` is that temperature).
     converged : ndarray of bool
     iterations : ndarray of int
-        Equilibrium evaluations used (one batched call each).
+        General path: equilibrium evaluations used (one batched call each).  Compiled
+        fixed-enthalpy path (ideal gas, NASA data, no approach): the Newton iterations of
+        that kernel, temperature included (``equilibrium.iterations``).
     enthalpy_residual : ndarray
         ``|H_out - H_in| / H_scale`` [-] with ``H_scale = Σ n_i |h°_i(T_in)| + n R T_in``.
     T_in : ndarray
@@ -153,6 +150,8 @@ def _hermite_root(T0, f0, s0, T1, f1, s1):
     return T0 + t * L
 
 
+# Stays long: one sequential iteration on T (bracket, Hermite/secant steps, per-state bookkeeping)
+# whose steps share many arrays; splitting it would only pass them around.
 def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_in, P, *,
                           reactions: Sequence[str] | None = None, gas_model: str = "ideal",
                           database: SpeciesDatabase | None = None,
@@ -230,7 +229,7 @@ def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_
     894.0 K, conversion 0.691
     """
     db = database or bundled_database()
-    names, shape, T_in_f, P_f, n0, _ = _broadcast_inputs(db, species, feed, T_in, P)
+    names, shape, T_in_f, P_f, n0, _ = broadcast_inputs(db, species, feed, T_in, P)
     p = T_in_f.size
     if np.any(~np.isfinite(T_in_f)) or np.any(T_in_f <= 0):
         raise EquilibriumInputError("inlet temperatures must be finite and above 0 K")
@@ -255,9 +254,9 @@ def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_
     names = list(first.species)
     common["reactions"] = first.reactions or None
     feed_flat = {n: first.feed_array[:, k] for k, n in enumerate(names) if np.any(first.feed_array[:, k] > 0)}
-    records = _records_for(names, db)
-    model = _MixtureEnthalpy(records, gas_model, binary_interaction)
-    C = _conservation_matrix(first, records)
+    records = records_for(names, db)
+    model = MixtureEnthalpy(records, gas_model, binary_interaction)
+    C = conservation_matrix(first, records)
     is_gas = model.is_gas
     n_feed = first.feed_array
     h_in = model.species_properties(T_in_f)[1]
@@ -341,7 +340,7 @@ def adiabatic_equilibrium(species: Sequence[str], feed: Mapping[str, object], T_
         T_eq_a = T_eq[idx]
         h_eq = h_r[idx] if np.array_equal(T_eq_a, Ta) else model.species_properties(T_eq_a)[1]
         with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-            dn, dlnn = _composition_temperature_derivative(am, h_eq, T_eq_a, C, is_gas)
+            dn, dlnn = composition_temperature_derivative(am, h_eq, T_eq_a, C, is_gas)
             slope = model.frozen_heat_capacity(am, Ta, P_f[st], cp=cp_r[idx])
             slope = slope + (h_r[idx] * dn).sum(axis=1)
             step = -fa / slope

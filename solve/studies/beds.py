@@ -11,17 +11,18 @@ import numpy as np
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import R
 from ...thermo.reactions import bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
-from .adiabatic import CAUTION
-from ..core.result import EquilibriumInputError
-from .enthalpy import _MixtureEnthalpy
-from .enthalpy import _records_for
-from .adiabatic import adiabatic_equilibrium
+from ...thermo.units import to_kelvin
 from ..core.equilibrium import equilibrium
+from ..core.inputs import (conversion_targets, feed_mapping, pressures, species_names, temperatures,
+                           whole_number)
+from ..core.result import EquilibriumInputError
+from .adiabatic import CAUTION, adiabatic_equilibrium
+from .enthalpy import MixtureEnthalpy, records_for
+from .feeds import resolve_feed
 
 
 # ====================================================================== staged adiabatic beds
-def _frozen_temperature(model: _MixtureEnthalpy, amounts, H_target, P, T_guess,
+def _frozen_temperature(model: MixtureEnthalpy, amounts, H_target, P, T_guess,
                         tolerance: float = 1e-12, max_iterations: int = 60):
     """Temperature [K] at which mixtures of fixed composition have enthalpy ``H_target`` [J].
 
@@ -186,6 +187,7 @@ def _removal_plan(interstage_removal, db) -> dict:
     return plan
 
 
+# Stays long: a sequential bed-by-bed march (inlet, adiabatic bed, cooling, removal, stop rule).
 def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key: str, inlet_T, *,
                      n_beds: int | None = None, target: float | None = None, max_beds: int = 8,
                      reactions: Sequence[str] | None = None, gas_model: str = "ideal",
@@ -252,31 +254,37 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
     620.8 degC, 0.9860
     """
     db = database or bundled_database()
+    if not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be the name of the key reactant (text), got {key!r}")
     key = db.resolve(key)
-    P_f = float(to_pascal(P))
+    P_arr = pressures(P)
+    if P_arr.ndim:
+        raise EquilibriumInputError("P must be a single pressure here (one converter per call)")
+    P_f = float(P_arr)
     names: list[str] = []
-    for n in list(species) + list(feed) + [key]:
+    for n in species_names(species) + list(feed_mapping(feed)) + [key]:
         r = db.resolve(n)
         if r not in names:
             names.append(r)
-    feed0 = {db.resolve(k): float(to_si(v, "amount")) for k, v in feed.items()}
+    feed0 = resolve_feed(feed, db)
     if feed0.get(key, 0.0) <= 0:
         raise EquilibriumInputError(f"the key reactant {key} must be in the feed")
     if isinstance(inlet_T, (str, int, float)) or np.ndim(inlet_T) == 0:
         inlets = None
-        T_common = float(to_kelvin(inlet_T))
+        T_common = float(temperatures(inlet_T, "inlet_T"))
     else:
-        inlets = [float(to_kelvin(t)) for t in inlet_T]
+        inlets = [float(temperatures(t, "inlet_T")) for t in inlet_T]
         if not inlets:
             raise EquilibriumInputError("inlet_T: give one temperature or one per bed")
     if n_beds is None and target is None:
         raise EquilibriumInputError("give n_beds (how many beds) or target (the overall conversion to reach)")
-    if target is not None and not 0.0 < float(target) < 1.0:
-        raise EquilibriumInputError(f"target conversion must lie between 0 and 1, got {target}")
+    if target is not None:
+        conversion_targets(target)
+        if np.ndim(target):
+            raise EquilibriumInputError("target must be a single conversion here")
+    whole_number(max_beds, "max_beds", 1)
     if n_beds is not None:
-        planned = int(n_beds)
-        if planned < 1:
-            raise EquilibriumInputError("n_beds must be at least 1")
+        planned = whole_number(n_beds, "n_beds", 1)
         if inlets is not None and planned > len(inlets):
             raise EquilibriumInputError(f"n_beds = {planned} but only {len(inlets)} inlet "
                                         "temperature(s) given")
@@ -299,7 +307,7 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
         ad = adiabatic_equilibrium(names, current, T_b, P_f, **common)
         if model is None:
             all_names = list(ad.equilibrium.species)
-            model = _MixtureEnthalpy(_records_for(all_names, db), gas_model, binary_interaction)
+            model = MixtureEnthalpy(records_for(all_names, db), gas_model, binary_interaction)
         if not ad.all_converged:
             message_extra = (f" Bed {b + 1}: the adiabatic equilibrium did not converge "
                              f"({ad.message}); stopped.")
@@ -353,7 +361,7 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
                    f"after bed {len(beds)}.")
     message += message_extra
 
-    diagram = _diagram(names, db, model, key, n_key0, P_f, sections, beds, bed_ends,
+    diagram = _diagram(names, model, key, n_key0, P_f, sections, beds, bed_ends,
                        common, diagram_T, diagram_points, line_points)
     return StagedConverterResult(key=key, P=P_f, beds=tuple(beds),
                                  target=None if target is None else float(target),
@@ -361,7 +369,7 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
                                  diagram=diagram, message=message)
 
 
-def _diagram(names, db, model, key, n_key0, P, sections, beds, bed_ends, common, diagram_T,
+def _diagram(names, model, key, n_key0, P, sections, beds, bed_ends, common, diagram_T,
              diagram_points, line_points) -> ConversionTemperatureDiagram:
     """Equilibrium curves (overall conversion), bed operating lines and cooling lines."""
     if not beds:

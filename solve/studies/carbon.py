@@ -12,10 +12,8 @@ import numpy as np
 
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
 from ..core.problem import element_matrix
-
+from ..core.result import EquilibriumInputError, EquilibriumResult
 
 
 CARBON_ROUTES = {
@@ -29,6 +27,12 @@ def _chemical_potentials(result: EquilibriumResult) -> np.ndarray:
     """μ_i/RT = g°_i/RT + ln a_i at the solution, shape (*shape, n_species)."""
     with np.errstate(invalid="ignore"):
         return result.g0_RT + result.ln_activity()
+
+
+def _require_result(result) -> None:
+    if not isinstance(result, EquilibriumResult):
+        raise EquilibriumInputError(f"give the EquilibriumResult of an equilibrium() call, got "
+                                    f"{type(result).__name__}")
 
 
 def carbon_activity_by_route(result: EquilibriumResult, *, database: SpeciesDatabase | None = None) -> dict:
@@ -45,6 +49,7 @@ def carbon_activity_by_route(result: EquilibriumResult, *, database: SpeciesData
     dict[str, float | ndarray]
         Route (reaction text) -> a_C.
     """
+    _require_result(result)
     db = database or bundled_database()
     mu = _chemical_potentials(result)
     g_c = np.asarray(db[GRAPHITE].gibbs_RT(np.asarray(result.T, dtype=float)))
@@ -94,9 +99,9 @@ def carbon_activity(result: EquilibriumResult, *, database: SpeciesDatabase | No
       cracking, Boudouard or CO reduction; :func:`carbon_activity_by_route`), the element
       potential where none of them applies.
 
-    Named-reactions results (gas not at full equilibrium): the largest a_C of the
-    carbon-forming routes whose species all have non-zero amounts (a route with an absent
-    species gives no finite value and is skipped).
+    Named-reactions results (gas not at full equilibrium): the largest finite a_C of the
+    carbon-forming routes (a route with a species missing from the result, or whose value
+    is not finite because a species amount is zero, is skipped); ``method`` does not apply.
 
     Parameters
     ----------
@@ -106,6 +111,8 @@ def carbon_activity(result: EquilibriumResult, *, database: SpeciesDatabase | No
     database : SpeciesDatabase, optional
         Supplies the data of ``C(gr)``.
     method : {"auto", "element-potential"}
+        All-species results only: the route of the most abundant species (``"auto"``,
+        element potential as fallback) or the element potential at every state.
 
     Returns
     -------
@@ -123,6 +130,7 @@ def carbon_activity(result: EquilibriumResult, *, database: SpeciesDatabase | No
     """
     if method not in ("auto", "element-potential"):
         raise EquilibriumInputError(f"method {method!r}: use 'auto' or 'element-potential'")
+    _require_result(result)
     db = database or bundled_database()
     shape = np.shape(result.T)
     if result.reactions:

@@ -8,19 +8,14 @@ import numpy as np
 
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
-from .inverse import BATCH
-from ..core.result import EquilibriumInputError
-from .feeds import FeedRatio
-from .feeds import STEAM
-from .inverse import _range
-from .roots import _refine
-from .inverse import _species_list
-from .carbon import carbon_activity
+from ...thermo.units import to_si
 from ..core.equilibrium import equilibrium
-from .feeds import feed_ratio_spec
-from .feeds import resolve_feed
-
+from ..core.inputs import broadcast_shape, feed_mapping, pressures, species_names, temperatures
+from ..core.result import EquilibriumInputError
+from .carbon import carbon_activity
+from .feeds import FeedRatio, STEAM, feed_ratio_spec, resolve_feed
+from .inverse import BATCH, search_range, species_list
+from .roots import bracketed_roots
 
 
 @dataclass(frozen=True)
@@ -107,35 +102,36 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     1.02
     """
     db = database or bundled_database()
-    base = resolve_feed(feed, db)
+    base = resolve_feed(feed_mapping(feed), db)
+    species = species_names(species)
     values = None
     if feed_ratio is not None:
         if steam_to_carbon is not None:
             raise EquilibriumInputError("give steam_to_carbon or feed_ratio, not both")
-        if len(feed_ratio) == 3:
+        if isinstance(feed_ratio, (tuple, list)) and len(feed_ratio) == 3:
             spec, values = feed_ratio_spec(feed_ratio[:2], db), feed_ratio[2]
         else:
             spec = feed_ratio_spec(feed_ratio, db)
     else:
         spec = FeedRatio(STEAM, "carbon")
         values = steam_to_carbon
-    names = [n for n in _species_list(species, base, (), db, (spec.numerator,)) if db[n].is_gas]
+    names = [n for n in species_list(species, base, (), db, (spec.numerator,)) if db[n].is_gas]
     if not any(db[n].elements.get("C", 0) > 0 for n in names):
         raise EquilibriumInputError("no carbon-containing gas species: graphite cannot form")
-    spec.denominator_amount(base, db)
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape)
+    spec.checked_basis(base, db)
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    shape = broadcast_shape(T=T_arr, P=P_arr)
     T_c = np.broadcast_to(T_arr, shape).reshape(-1)
     P_c = np.broadcast_to(P_arr, shape).reshape(-1)
-    lo, hi = _range(ratio_range, "dimensionless", "ratio_range")
+    lo, hi = search_range(ratio_range, "dimensionless", "ratio_range")
     S = T_c.size
 
     def ln_a_c(u, case):
         out = np.empty(u.size)
         for s in range(0, u.size, BATCH):
             sl = slice(s, min(s + BATCH, u.size))
-            f = spec.apply(base, np.exp(u[sl]), db)
+            f = spec.feed_at(base, np.exp(u[sl]), db)
             f = {k: np.broadcast_to(v, u[sl].shape) for k, v in f.items()}
             res = equilibrium(names, f, T_c[case[sl]], P_c[case[sl]], gas_model=gas_model, database=db, warn=False)
             with np.errstate(divide="ignore"):
@@ -152,8 +148,8 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
     br = np.flatnonzero(status == "bracketed")
     critical = np.full(S, np.nan)
     if br.size:
-        u, fu, ok = _refine(ln_a_c, np.full(br.size, np.log(lo)), np.full(br.size, np.log(hi)), f_lo[br], f_hi[br],
-                            br, ftol=tolerance, utol=1e-10)
+        u, fu, ok = bracketed_roots(lambda x, idx: ln_a_c(x, br[idx]), np.full(br.size, np.log(lo)),
+                                    np.full(br.size, np.log(hi)), f_lo[br], f_hi[br], ftol=tolerance, xtol=1e-10)
         critical[br] = np.where(ok, np.exp(u), np.nan)
         status[br[~ok]] = "failed"
 
@@ -168,8 +164,8 @@ def carbon_limit(species: Sequence[str], feed: Mapping[str, object], *, T, P, st
             stable = a_grid > 1.0
     n_out = int(np.count_nonzero(status != "bracketed"))
     message = (f"{S} state(s): boundary found at {S - n_out}"
-               + (f"; {n_out} outside {spec.label} {lo:g}-{hi:g} or failed (see status)" if n_out else ""))
+               + (f"; {n_out} outside {spec.name} {lo:g}-{hi:g} or failed (see status)" if n_out else ""))
     return CarbonLimit(T=np.broadcast_to(T_arr, shape).copy(), P=np.broadcast_to(P_arr, shape).copy(),
-                       ratio_name=spec.label, critical_ratio=critical.reshape(shape),
+                       ratio_name=spec.name, critical_ratio=critical.reshape(shape),
                        status=status.reshape(shape), ratio_range=(lo, hi), ratio_values=ratio_values,
                        carbon_activity=a_grid, graphite_stable=stable, message=message)

@@ -8,19 +8,17 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.models import R, Nasa7Polynomial
+from ...thermo.models import Nasa7Polynomial, Nasa7Table, R
 from ...thermo.reactions import bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
-from ..core.fugacity import FugacityModel
-from ..core.problem import element_matrix
 from ..core.equilibrium import equilibrium
-from ..core.problem import invariant_basis
+from ..core.fugacity import FugacityModel
+from ..core.inputs import broadcast_shape, feed_mapping, pressures, quantity, species_names, temperatures
+from ..core.problem import element_matrix, invariant_basis, stoichiometric_matrix
+from ..core.result import EquilibriumInputError, EquilibriumResult
 
 
 # ====================================================================== enthalpy models
-class _MixtureEnthalpy:
+class MixtureEnthalpy:
     """Enthalpy of a mixture of fixed species: ideal gas plus pure condensed species,
     optionally with the Peng-Robinson residual enthalpy of the gas."""
 
@@ -28,21 +26,11 @@ class _MixtureEnthalpy:
         self.records = list(records)
         self.is_gas = np.array([sp.is_gas for sp in self.records])
         self.gas_columns = np.flatnonzero(self.is_gas)
-        # two-range NASA polynomials (nearly every species) evaluated together
-        ns = len(self.records)
-        self._low = np.zeros((ns, 7))
-        self._high = np.zeros((ns, 7))
-        self._T_mid = np.full(ns, np.inf)
-        self._other = []
-        for j, sp in enumerate(self.records):
-            m = sp.model
-            if isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 3:
-                self._low[j], self._high[j] = m.coefficients
-                self._T_mid[j] = m.T_bounds[1]
-            elif isinstance(m, Nasa7Polynomial) and len(m.T_bounds) == 2:
-                self._low[j] = self._high[j] = m.coefficients[0]
-            else:
-                self._other.append(j)
+        # NASA polynomials (nearly every species) evaluated together
+        self._nasa = [j for j, sp in enumerate(self.records) if isinstance(sp.model, Nasa7Polynomial)]
+        self._other = [j for j, sp in enumerate(self.records) if not isinstance(sp.model, Nasa7Polynomial)]
+        self._table = (Nasa7Table.from_polynomials([self.records[j].model for j in self._nasa])
+                       if self._nasa else None)
         self.eos = None
         if gas_model == "peng-robinson":
             self.eos = FugacityModel([sp for sp in self.records if sp.is_gas], binary_interaction)
@@ -57,12 +45,12 @@ class _MixtureEnthalpy:
             for sp in self.records:
                 sp.check_temperature(ends[np.isfinite(ends)])
         Tc = T[..., None]
-        use_low = Tc <= self._T_mid
-        a = [np.where(use_low, lo, hi) for lo, hi in zip(self._low.T, self._high.T)]
-        cp_R = a[0] + Tc * (a[1] + Tc * (a[2] + Tc * (a[3] + Tc * a[4])))
-        h_RT = a[0] + Tc * (a[1] / 2 + Tc * (a[2] / 3 + Tc * (a[3] / 4 + Tc * a[4] / 5))) + a[5] / Tc
-        cp = R * cp_R
-        h = R * Tc * h_RT
+        cp = np.zeros(T.shape + (len(self.records),))
+        h = np.zeros(T.shape + (len(self.records),))
+        if self._table is not None:
+            cp_R, h_RT = self._table.heat_capacity_enthalpy(T)
+            cp[..., self._nasa] = R * cp_R
+            h[..., self._nasa] = R * Tc * h_RT
         for j in self._other:
             cp_j, h_j, _ = self.records[j].model.dimensionless(T)
             cp[..., j] = R * cp_j
@@ -102,7 +90,7 @@ class _MixtureEnthalpy:
         return c
 
 
-def _records_for(names, db: SpeciesDatabase):
+def records_for(names, db: SpeciesDatabase):
     return [db.species[db.resolve(n)] for n in names]
 
 
@@ -141,30 +129,37 @@ def mixture_enthalpy(result: EquilibriumResult, *, database: SpeciesDatabase | N
     1.9359 mol, -88.93 kJ
     """
     db = database or bundled_database()
-    model = _MixtureEnthalpy(_records_for(result.species, db), result.gas_model, binary_interaction)
+    model = MixtureEnthalpy(records_for(result.species, db), result.gas_model, binary_interaction)
     T = np.asarray(result.T, dtype=float)
     H = model.total(np.asarray(result.amount_array, dtype=float), T, np.asarray(result.P, dtype=float))
     return float(H) if np.ndim(H) == 0 else H
 
 
-def _broadcast_inputs(db, species, feed, T, P, T_other=None):
+def broadcast_inputs(db, species, feed, T, P, T_other=None):
     """Resolve names and broadcast feed, T [K], P [Pa] (and a second temperature [K]);
     returns names, shape, flat T, flat P, feed amounts (p, n_species) and flat T_other."""
+    feed = feed_mapping(feed)
     names: list[str] = []
-    for n in list(species) + list(feed):
+    for n in species_names(species) + list(feed):
         r = db.resolve(n)
         if r not in names:
             names.append(r)
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    T2_arr = np.asarray(to_kelvin(T_other if T_other is not None else 0.0), dtype=float)
-    feed_arrays = {db.resolve(k): np.asarray(to_si(v, "amount"), dtype=float) for k, v in feed.items()}
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, T2_arr.shape,
-                                *(a.shape for a in feed_arrays.values()))
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    T2_arr = np.asarray(0.0) if T_other is None else temperatures(T_other, "second temperature")
+    feed_arrays = {db.resolve(k): quantity(v, "amount", f"feed of {k}") for k, v in feed.items()}
+    for k, a in feed_arrays.items():
+        if np.any(a < 0):
+            raise EquilibriumInputError(f"feed of {k} must be non-negative")
+    shape = broadcast_shape(T=T_arr, P=P_arr, **({} if T_other is None else {"second temperature": T2_arr}),
+                            **{f"feed of {k}": a for k, a in feed_arrays.items()})
     p = int(np.prod(shape)) if shape else 1
     n0 = np.zeros((p, len(names)))
     for name, arr in feed_arrays.items():
         n0[:, names.index(name)] += np.broadcast_to(arr, shape).reshape(p)
+    if np.any(n0.sum(axis=1) < np.finfo(float).tiny):
+        raise EquilibriumInputError("the feed is empty (all amounts zero or subnormal) at some state; "
+                                    "give at least one positive amount")
 
     def flat(a):
         return np.broadcast_to(a, shape).reshape(p).copy()
@@ -206,8 +201,8 @@ def feed_enthalpy(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     21.46
     """
     db = database or bundled_database()
-    names, shape, T_f, P_f, n0, _ = _broadcast_inputs(db, species, feed, T, P)
-    model = _MixtureEnthalpy(_records_for(names, db), gas_model, binary_interaction)
+    names, shape, T_f, P_f, n0, _ = broadcast_inputs(db, species, feed, T, P)
+    model = MixtureEnthalpy(records_for(names, db), gas_model, binary_interaction)
     H = model.total(n0, T_f, P_f).reshape(shape)
     return float(H) if H.ndim == 0 else H
 
@@ -249,10 +244,10 @@ def isothermal_duty(species: Sequence[str], feed: Mapping[str, object], T_in, T,
     db = equilibrium_kwargs.get("database") or bundled_database()
     gas_model = equilibrium_kwargs.get("gas_model", "ideal")
     kij = equilibrium_kwargs.get("binary_interaction")
-    names, shape, T_in_f, P_f, n0, T_f = _broadcast_inputs(db, species, feed, T_in, P, T_other=T)
+    names, shape, T_in_f, P_f, n0, T_f = broadcast_inputs(db, species, feed, T_in, P, T_other=T)
     feed_flat = {n: n0[:, k] for k, n in enumerate(names) if np.any(n0[:, k] > 0)}
     res = equilibrium(names, feed_flat, T_f, P_f, **equilibrium_kwargs)
-    model = _MixtureEnthalpy(_records_for(res.species, db), gas_model, kij)
+    model = MixtureEnthalpy(records_for(res.species, db), gas_model, kij)
     n_in = np.zeros((T_f.size, len(res.species)))
     n_in[:, [res.species.index(n) for n in names]] = n0
     Q = (model.total(res.amount_array, T_f, P_f) - model.total(n_in, T_in_f, P_f)).reshape(shape)
@@ -260,19 +255,14 @@ def isothermal_duty(species: Sequence[str], feed: Mapping[str, object], T_in, T,
 
 
 # ====================================================================== temperature derivatives
-def _conservation_matrix(result: EquilibriumResult, records) -> np.ndarray:
+def conservation_matrix(result: EquilibriumResult, records) -> np.ndarray:
     """Rows conserved by the result's problem: element counts, or reaction invariants."""
     if result.reactions:
-        names = list(result.species)
-        N = np.zeros((len(names), len(result.reactions)))
-        for j, r in enumerate(result.reactions):
-            for name, nu in zip(r.names, r.coefficients):
-                N[names.index(name), j] += nu
-        return invariant_basis(N)
+        return invariant_basis(stoichiometric_matrix(result.reactions, list(result.species)))
     return element_matrix(records)[1]
 
 
-def _composition_temperature_derivative(amounts, h, T, C, is_gas):
+def composition_temperature_derivative(amounts, h, T, C, is_gas):
     """d n_j / dT [mol/K] of an equilibrium mixture at fixed P and conserved ``C n``.
 
     Ideal gas plus pure condensed species (those present, n > 0); the linear system is

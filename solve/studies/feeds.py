@@ -74,6 +74,56 @@ def approach_kelvin(approach) -> float | None:
     return value
 
 
+def approach_temperatures(T, approach: float) -> np.ndarray:
+    """Both candidate equilibrium temperatures of an approach, stacked: T − ΔT then T + ΔT.
+
+    Parameters
+    ----------
+    T : ndarray, shape (m,)
+        Operating temperatures [K].
+    approach : float
+        ΔT [K], positive.
+
+    Returns
+    -------
+    ndarray, shape (2 m,)
+        ``[T − ΔT, T + ΔT]`` [K]; solve both in one batched call and pick the side per state
+        with :func:`approach_side`.  Refused (EquilibriumInputError) where T − ΔT ≤ 0 K.
+    """
+    T = np.asarray(T, dtype=float).reshape(-1)
+    if np.any(T - approach <= 0):
+        raise EquilibriumInputError(f"approach {approach:g} K takes temperatures to or below 0 K")
+    return np.concatenate([T - approach, T + approach])
+
+
+def approach_side(conversion_both) -> np.ndarray:
+    """The approach-side rule: per state, the side of the approach that lowers conversion.
+
+    An approach to equilibrium ΔT is applied on the side that lowers the conversion of the
+    key reactant: T + ΔT for an exothermic reaction, T − ΔT for an endothermic one (van 't
+    Hoff: d ln K/dT = ΔrH°/RT²).  The side is found from the conversions themselves, so it
+    also holds for several reactions.  This is the one place the rule is written.
+
+    Parameters
+    ----------
+    conversion_both : ndarray, shape (2 m,)
+        Conversion of the key [-] at :func:`approach_temperatures` (T − ΔT first).
+
+    Returns
+    -------
+    ndarray of int, shape (m,)
+        +1 where T + ΔT gives the lower conversion, −1 otherwise (ties and NaN: −1).
+
+    Examples
+    --------
+    >>> approach_side(np.array([0.30, 0.20, 0.25, 0.35])).tolist()
+    [1, -1]
+    """
+    x = np.asarray(conversion_both, dtype=float).reshape(-1)
+    m = x.size // 2
+    return np.where(x[m:] < x[:m], 1, -1)
+
+
 def axis_values(value, kind: str, what: str) -> np.ndarray | None:
     """A sweep axis as a float array in SI: 0-d for a fixed value, 1-d for an axis.
 
@@ -126,37 +176,82 @@ def hydrocarbon_carbon(feed: Mapping[str, float], db: SpeciesDatabase) -> float:
 
 @dataclass(frozen=True)
 class FeedRatio:
-    """A feed-ratio specification: ``numerator`` amount = ratio × ``denominator`` amount.
+    """A feed ratio: ``numerator`` amount = ratio × ``denominator`` amount [mol/mol].
 
-    ``denominator`` is a species name, or ``"carbon"`` for the steam-to-carbon ratio
-    (carbon atoms of the feed species containing C and H, see :func:`hydrocarbon_carbon`).
+    The one feed-ratio record of the package: the studies take it (``ratio=``), and the
+    case-file reader builds it from a study's ``feed_ratio`` section (with the grid of
+    ``values`` of a map).
+
+    Attributes
+    ----------
+    numerator : str
+        Feed species whose amount the ratio sets (database name), e.g. ``"H2O"``.
+    denominator : str
+        A feed species name, or ``"carbon"`` for the steam-to-carbon ratio: the carbon
+        atoms of the feed species holding both carbon and hydrogen (see
+        :func:`hydrocarbon_carbon`).
+    values : tuple[float, ...]
+        Ratios [mol/mol] of a study grid; empty for a target search or a single use.
+    label : str
+        Text for tables and axes; default ``"<name> ratio"``, e.g. ``"steam-to-carbon ratio"``.
+
+    Examples
+    --------
+    >>> r = FeedRatio("H2O", "CO")
+    >>> r.name, r.label
+    ('H2O/CO', 'H2O/CO ratio')
+    >>> FeedRatio("H2O", "carbon").name
+    'steam-to-carbon'
     """
 
     numerator: str
     denominator: str
+    values: tuple = ()
+    label: str = ""
+
+    def __post_init__(self):
+        for field_name in ("numerator", "denominator"):
+            v = getattr(self, field_name)
+            if not isinstance(v, str) or not v:
+                raise EquilibriumInputError(f"feed ratio {field_name} must be a species name, got {v!r}")
+        if self.numerator == self.denominator:
+            raise EquilibriumInputError(f"feed ratio {self.numerator}/{self.denominator}: numerator and "
+                                        "denominator are the same species")
+        object.__setattr__(self, "values", tuple(float(v) for v in self.values))
+        if not self.label:
+            object.__setattr__(self, "label", f"{self.name} ratio")
 
     @property
-    def label(self) -> str:
+    def name(self) -> str:
+        """Short name used in answers and map axes: ``"steam-to-carbon"`` or ``"H2O/CO"``."""
         if self.denominator == "carbon":
             return "steam-to-carbon"
         return f"{self.numerator}/{self.denominator}"
 
-    def denominator_amount(self, feed: Mapping[str, float], db: SpeciesDatabase) -> float:
+    def basis(self, feed: Mapping[str, float], database: SpeciesDatabase) -> float:
+        """Amount [mol] of the denominator in ``feed`` (0 where it is not fed)."""
         if self.denominator == "carbon":
-            amount = hydrocarbon_carbon(feed, db)
-            if amount <= 0:
+            return float(hydrocarbon_carbon(feed, database))
+        return float(feed.get(self.denominator, 0.0))
+
+    def checked_basis(self, feed: Mapping[str, float], database: SpeciesDatabase) -> float:
+        """:meth:`basis`, refused (EquilibriumInputError) where it is not positive."""
+        amount = self.basis(feed, database)
+        if amount <= 0:
+            if self.denominator == "carbon":
                 raise EquilibriumInputError("steam-to-carbon ratio: the feed holds no hydrocarbon "
                                             "(no species with both C and H)")
-            return amount
-        amount = feed.get(self.denominator, 0.0)
-        if amount <= 0:
-            raise EquilibriumInputError(f"feed ratio {self.label}: the feed has no {self.denominator}")
+            raise EquilibriumInputError(f"feed ratio {self.name}: the feed has no {self.denominator}")
         return amount
 
-    def apply(self, feed: Mapping[str, float], ratio: np.ndarray, db: SpeciesDatabase) -> dict:
-        """Feed amounts with the numerator set from ``ratio`` (array) [mol]."""
+    def current(self, feed: Mapping[str, float], database: SpeciesDatabase) -> float:
+        """The ratio [mol/mol] in ``feed`` as given."""
+        return float(feed.get(self.numerator, 0.0)) / self.basis(feed, database)
+
+    def feed_at(self, feed: Mapping[str, float], ratio, database: SpeciesDatabase) -> dict:
+        """``feed`` as arrays with the numerator set to ``ratio`` × :meth:`checked_basis` [mol]."""
         out = {k: np.asarray(v, dtype=float) for k, v in feed.items()}
-        out[self.numerator] = np.asarray(ratio, dtype=float) * self.denominator_amount(feed, db)
+        out[self.numerator] = np.asarray(ratio, dtype=float) * self.checked_basis(feed, database)
         return out
 
 
@@ -172,10 +267,7 @@ def feed_ratio_spec(ratio, db: SpeciesDatabase) -> FeedRatio:
         num, den = ratio
     except (TypeError, ValueError):
         raise EquilibriumInputError(f"ratio {ratio!r}: give a pair such as ('H2O', 'CO')") from None
-    num, den = db.resolve(num), db.resolve(den)
-    if num == den:
-        raise EquilibriumInputError(f"feed ratio {num}/{den}: numerator and denominator are the same species")
-    return FeedRatio(num, den)
+    return FeedRatio(db.resolve(num), db.resolve(den))
 
 
 def apply_inert(feed: Mapping[str, np.ndarray], inert: str, fraction: np.ndarray) -> dict:

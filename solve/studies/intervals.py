@@ -9,77 +9,26 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass, field
-from typing import Mapping, Sequence
+from typing import ClassVar, Mapping, Sequence
 
 import numpy as np
 
+from ...thermo.data_uncertainty import UncertaintyDefaults
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import bundled_database
 from ...thermo.units import to_kelvin, to_pascal, to_si
-from .uncertainty import ASSUMPTIONS
-from .uncertainty import ROOT_FTOL
-from .uncertainty import ROOT_XTOL
-from .uncertainty import T_STEP
-from ...thermo.data_uncertainty import UncertaintyDefaults
-from .uncertainty import _System
-from .uncertainty import _check_method
-from .uncertainty import _dY_dg
-from .uncertainty import _percent_labels
-from .uncertainty import _quantiles
-from .uncertainty import _ranking
-from .uncertainty import _shape_out
-from .uncertainty import _system
-from .uncertainty import _z
 from ..core.equilibrium import equilibrium
-from .inverse import feed_ratio_for_conversion
+from .answers import InverseAnswer, shape_out
+from .data_parameters import parameter_map
 from .feeds import feed_ratio_spec
-from .uncertainty import parameter_map
-from .inverse import pressure_for_conversion
-from .inverse import temperature_for_conversion
+from .inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
+from .roots import bracketed_roots
+from .perturbed_system import BatchedSystem, batched_system, output_gibbs_derivatives
+from .uncertainty import ASSUMPTIONS, ROOT_FTOL, ROOT_XTOL, T_STEP
+from .uncertainty_statistics import check_method, coverage_factor, percent_labels, quantiles, rank_data
 
 
 # =========================================================================== inverse: temperature
-def _bracketed_roots(f, a, b, fa, fb, *, xtol: float, ftol: float, max_iter: int = 80):
-    """Roots of f(x, idx) = 0 in brackets [a, b] (fa, fb of opposite signs), all together.
-
-    Illinois regula falsi (M. Dowell, P. Jarratt, BIT 11 (1971) 168-174) with a bisection
-    step every fourth iteration and whenever the secant point is not strictly inside.
-    ``f(x, idx)`` evaluates the functions ``idx`` at the points ``x`` in one batched call.
-
-    Returns (x, ok): the point with the smallest |f| per bracket; ok False where an
-    evaluation failed (NaN).
-    """
-    a, b, fa, fb = (np.array(v, dtype=float) for v in (a, b, fa, fb))
-    n = a.size
-    best = np.where(np.abs(fa) <= np.abs(fb), a, b)
-    best_f = np.where(np.abs(fa) <= np.abs(fb), fa, fb)
-    ok = np.ones(n, dtype=bool)
-    active = (np.abs(best_f) > ftol) & (np.abs(b - a) > xtol)
-    for it in range(max_iter):
-        idx = np.flatnonzero(active)
-        if idx.size == 0:
-            break
-        A, B, FA, FB = a[idx], b[idx], fa[idx], fb[idx]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            x = B - FB * (B - A) / (FB - FA)
-        lo, hi = np.minimum(A, B), np.maximum(A, B)
-        bisect = ~np.isfinite(x) | (x <= lo) | (x >= hi) | (it % 4 == 3)
-        x = np.where(bisect, 0.5 * (A + B), x)
-        fx = f(x, idx)
-        bad = ~np.isfinite(fx)
-        better = np.abs(fx) < np.abs(best_f[idx])
-        best[idx] = np.where(better, x, best[idx])
-        best_f[idx] = np.where(better, fx, best_f[idx])
-        flip = np.sign(fx) != np.sign(FB)           # root between b and x: old b becomes a
-        a[idx] = np.where(flip, B, A)
-        fa[idx] = np.where(flip, FB, 0.5 * FA)       # Illinois: halve the retained end
-        b[idx], fb[idx] = x, fx
-        ok[idx[bad]] = False
-        done = bad | (np.abs(fx) <= ftol) | (np.abs(b[idx] - a[idx]) <= xtol)
-        active[idx[done]] = False
-    return best, ok
-
-
 class _AnswerRanking:
     """Ranking shared by the interval results of the inverse questions."""
 
@@ -87,11 +36,11 @@ class _AnswerRanking:
         """Data ranked by their share of the answer's variance (averaged over the questions
         unless ``at`` picks one)."""
         c = self.sensitivity if at is None else self.sensitivity[at]
-        return _ranking(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
+        return rank_data(self.data, np.reshape(c, (-1, len(self.data))), np.array([d.u for d in self.data]), by)
 
 
 @dataclass(frozen=True)
-class TemperatureUncertainty(_AnswerRanking):
+class TemperatureUncertainty(_AnswerRanking, InverseAnswer):
     """The temperature for a target conversion, with its interval from data uncertainty.
 
     Scalars for one question; arrays of the broadcast shape of P and target otherwise.
@@ -116,7 +65,16 @@ class TemperatureUncertainty(_AnswerRanking):
     sample_T : ndarray | None
         Monte Carlo answers, shape (samples, *shape) [K].
     P, target, key, approach, method, level, samples, seed, message
+    at_range_end : bool | ndarray
+        The nominal target is met over the whole ``T_range`` (the value is a range end).
+    value, unit, status, shape
+        The shared answer shape (:class:`~eqdesign.solve.studies.answers.InverseAnswer`):
+        ``value`` is ``T`` [K]; ``status`` per question ``"reached"``, ``"search-range end"``
+        or ``"not reachable"``.
     """
+
+    value_field: ClassVar[str] = "T"
+    unit: ClassVar[str] = "K"
 
     T: object
     lower: object
@@ -139,10 +97,7 @@ class TemperatureUncertainty(_AnswerRanking):
     approach: float | None = None
     T_range: tuple = (np.nan, np.nan)
     message: object = ""
-
-    @property
-    def shape(self) -> tuple:
-        return np.shape(self.T)
+    at_range_end: object = False
 
 
     def summary(self, at=None) -> str:
@@ -160,7 +115,7 @@ class TemperatureUncertainty(_AnswerRanking):
 
     def rows(self) -> list[dict]:
         """One row per question, headers carrying units."""
-        lo, hi = _percent_labels(self.level)
+        lo, hi = percent_labels(self.level)
         cols = {f"target conversion {self.key} [-]": self.target, "P [Pa]": self.P, "T [K]": self.T,
                 f"T {lo} [K]": self.lower, "T median [K]": self.median, f"T {hi} [K]": self.upper,
                 "u(T) [K]": self.standard_uncertainty, "draws beyond range [-]": self.beyond_range}
@@ -175,6 +130,7 @@ def _fmt_T(x: float) -> str:
     return f"{x:.1f} K"
 
 
+# Stays long: nominal answer, its refinement and the interval, one sequential routine.
 def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, key: str, target, *,
                          T_range=(300.0, 1500.0), reactions: Sequence[str] | None = None,
                          gas_model: str = "ideal", approach=None, database: SpeciesDatabase | None = None,
@@ -212,7 +168,7 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
     >>> round(r.T, 1), round(r.standard_uncertainty, 1)
     (833.2, 5.4)
     """
-    _check_method(method, samples, level)
+    check_method(method, samples, level, seed)
     db = database or bundled_database()
     nominal = temperature_for_conversion(species, feed, P, key, target, T_range=T_range, reactions=reactions,
                                          gas_model=gas_model, approach=approach, database=db)
@@ -232,7 +188,7 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
                             key=key_r, database=db, warn=False)
     names = list(res_probe.species)
     feed_one = np.asarray(res_probe.feed_array, dtype=float)[None, :]
-    system = _system(species, feed_one, names, res_probe.gas_mask, key=key_r, reactions=res_probe.reactions,
+    system = batched_system(feed_one, names, res_probe.gas_mask, key=key_r, reactions=res_probe.reactions,
                      gas_model=gas_model, database=db, binary_interaction=None)
     pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
 
@@ -260,15 +216,15 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
 
             def f_nom(x, idx, _gi=gi):
                 return conversion_at(x, _gi[idx]) - tg[_gi[idx]]
-            roots, okr = _bracketed_roots(f_nom, xa[good], xb[good], fa[good], fb[good], xtol=ROOT_XTOL,
-                                          ftol=ROOT_FTOL)
+            roots, _, okr = bracketed_roots(f_nom, xa[good], xb[good], fa[good], fb[good], xtol=ROOT_XTOL,
+                                            ftol=ROOT_FTOL)
             T_eq_ref[gi] = np.where(okr, roots, T_eq0[gi])
             crossing[gi] = okr
         rc = rc[~good]
     T_nom = np.where(reached, T_eq_ref - side * dT, np.nan)
     found = _inverse_interval(
         conversion_at,
-        lambda rows: _dY_dg(_system_for_cases(system, P_c[rows]), T_eq_ref[rows], P_c[rows])[:, 0, :],
+        lambda rows: output_gibbs_derivatives(_system_for_cases(system, P_c[rows]), T_eq_ref[rows], P_c[rows])[:, 0, :],
         T_eq_ref, crossing, tg, T_eq_ref, lo + side * dT, hi + side * dT, pm, method=method,
         samples=samples, seed=seed, level=level, x_step=T_STEP, min_width=0.5,
         temperature_of=lambda x, cases: x)
@@ -292,17 +248,18 @@ def temperature_interval(species: Sequence[str], feed: Mapping[str, object], P, 
         msg += "; no interval where the nominal answer is the end of the search range (no crossing of the target)"
     full = [f"{msg}; {ASSUMPTIONS}; nominal: {t}" for t in messages]
     return TemperatureUncertainty(
-        T=_shape_out(T_nom, shape), lower=_shape_out(lower, shape), median=_shape_out(median, shape),
-        upper=_shape_out(upper, shape), standard_uncertainty=_shape_out(std, shape),
-        reached=_shape_out(reached, shape), beyond_range=_shape_out(beyond, shape), P=_shape_out(P_c, shape),
-        target=_shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
+        T=shape_out(T_nom, shape), lower=shape_out(lower, shape), median=shape_out(median, shape),
+        upper=shape_out(upper, shape), standard_uncertainty=shape_out(std, shape),
+        reached=shape_out(reached, shape), beyond_range=shape_out(beyond, shape), P=shape_out(P_c, shape),
+        target=shape_out(tg, shape), key=key_r, method=method, level=float(level), samples=n_samples,
         seed=seed if method == "monte-carlo" else None, sensitivity=sens.reshape(shape + (len(pm.data),)),
-        data=pm.data, sample_T=sample_T, n_failed=_shape_out(n_failed, shape), approach=dT or None, T_range=(lo, hi),
-        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+        data=pm.data, sample_T=sample_T, n_failed=shape_out(n_failed, shape), approach=dT or None, T_range=(lo, hi),
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
+        at_range_end=nominal.at_range_end)
 
 
 @dataclass(frozen=True)
-class PressureUncertainty(_AnswerRanking):
+class PressureUncertainty(_AnswerRanking, InverseAnswer):
     """The pressure for a target conversion, with its interval from data uncertainty.
 
     Scalars for one question; arrays of the broadcast shape of T and target otherwise.
@@ -316,13 +273,18 @@ class PressureUncertainty(_AnswerRanking):
         the draws reaches the target only beyond ``P_range``.
     relative_uncertainty : float | ndarray
         u(ln P) [-], the relative standard uncertainty of the pressure.
-    reached, beyond_range, T, target, key, method, level, samples, seed, message
+    reached, beyond_range, T, target, key, method, level, samples, seed, message, at_range_end
         As for :class:`TemperatureUncertainty` (T [K] is the operating temperature).
+    value, unit, status, shape
+        The shared answer shape: ``value`` is ``P`` [Pa].
     sensitivity : ndarray, shape (*shape, n_data)
         d ln P/dθ_k = −(∂X/∂θ_k)/(∂X/∂ln P) [per J/mol or per J/(mol K)].
     sample_P : ndarray | None
         Monte Carlo answers, shape (samples, *shape) [Pa].
     """
+
+    value_field: ClassVar[str] = "P"
+    unit: ClassVar[str] = "Pa"
 
     P: object
     lower: object
@@ -344,11 +306,7 @@ class PressureUncertainty(_AnswerRanking):
     n_failed: object = 0
     P_range: tuple = (np.nan, np.nan)
     message: object = ""
-
-    @property
-    def shape(self) -> tuple:
-        return np.shape(self.P)
-
+    at_range_end: object = False
 
 
 def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *, method, samples, seed,
@@ -385,7 +343,7 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
         sigma[rc] = np.sqrt(((sens[rc] * u) ** 2).sum(axis=-1))
     out = dict(sens=sens, sigma=sigma, beyond=np.zeros(m), n_failed=np.zeros(m, dtype=int), samples=None)
     if method == "linear":
-        z = _z(level)
+        z = coverage_factor(level)
         out.update(lower=x0 - z * sigma, median=x0.copy(), upper=x0 + z * sigma, spread=sigma)
         return out
     rng = np.random.default_rng(seed)
@@ -428,12 +386,12 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
                               | (fa == 0) | (fb == 0))
         roots = np.full(n_all, np.nan)
         if todo.size:
-            xr, okr = _bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
-                                       xtol=ROOT_XTOL, ftol=ROOT_FTOL)
+            xr, _, okr = bracketed_roots(lambda x, idx: f(x, todo[idx]), a[todo], b[todo], fa[todo], fb[todo],
+                                         xtol=ROOT_XTOL, ftol=ROOT_FTOL)
             roots[todo] = np.where(okr, xr, np.nan)
         roots = np.where(censored > 0, np.inf, np.where(censored < 0, -np.inf, roots))
         X[:, rc] = roots.reshape(S, r)
-    lower, median, upper = _quantiles(X, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
+    lower, median, upper = quantiles(X, [0.5 - level / 2.0, 0.5, 0.5 + level / 2.0])
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)
         spread = np.nanstd(np.where(np.isfinite(X), X, np.nan), axis=0, ddof=1)
@@ -493,7 +451,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     >>> round(r.P / 1e5, 1), round(r.relative_uncertainty, 2)
     (146.1, 0.06)
     """
-    _check_method(method, samples, level)
+    check_method(method, samples, level, seed)
     db = database or bundled_database()
     nominal = pressure_for_conversion(species, feed, T, key, target, P_range=P_range, reactions=reactions,
                                       gas_model=gas_model, approach=approach, database=db)
@@ -508,7 +466,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     key_r = db.resolve(key)
     probe = equilibrium(species, feed, float(np.nanmean(T_eq)), math.exp(0.5 * (lo + hi)), reactions=reactions,
                         gas_model=gas_model, key=key_r, database=db, warn=False)
-    system = _system(species, np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
+    system = batched_system(np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
                      probe.gas_mask, key=key_r, reactions=probe.reactions, gas_model=gas_model, database=db,
                      binary_interaction=None)
     pm = parameter_map(list(probe.species), database=db, overrides=overrides, defaults=defaults)
@@ -519,7 +477,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
 
     x0 = np.log(np.where(reached, P0, 1.0))
     found = _inverse_interval(
-        conversion_at, lambda rows: _dY_dg(_system_for_cases(system, P0[rows]), T_eq[rows], P0[rows])[:, 0, :],
+        conversion_at, lambda rows: output_gibbs_derivatives(_system_for_cases(system, P0[rows]), T_eq[rows], P0[rows])[:, 0, :],
         x0, reached, tg, T_eq, lo, hi, pm, method=method, samples=samples, seed=seed, level=level)
     with np.errstate(over="ignore"):
         lower, median, upper = (np.exp(found[k]) for k in ("lower", "median", "upper"))
@@ -527,25 +485,30 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     full = _interval_message(method, samples, seed, found, bool(np.any(np.isfinite(P0) & at_end)),
                              nominal.message)
     return PressureUncertainty(
-        P=_shape_out(np.where(reached, P0, np.nan), shape), lower=_shape_out(lower, shape),
-        median=_shape_out(median, shape), upper=_shape_out(upper, shape),
-        relative_uncertainty=_shape_out(found["spread"], shape), reached=_shape_out(reached, shape),
-        beyond_range=_shape_out(found["beyond"], shape), T=_shape_out(T_op, shape),
-        target=_shape_out(tg, shape), key=key_r, method=method, level=float(level),
+        P=shape_out(np.where(reached, P0, np.nan), shape), lower=shape_out(lower, shape),
+        median=shape_out(median, shape), upper=shape_out(upper, shape),
+        relative_uncertainty=shape_out(found["spread"], shape), reached=shape_out(reached, shape),
+        beyond_range=shape_out(found["beyond"], shape), T=shape_out(T_op, shape),
+        target=shape_out(tg, shape), key=key_r, method=method, level=float(level),
         samples=samples if method == "monte-carlo" else 0, seed=seed if method == "monte-carlo" else None,
         sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_P=sample_P,
-        n_failed=_shape_out(found["n_failed"], shape), P_range=(math.exp(lo), math.exp(hi)),
-        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+        n_failed=shape_out(found["n_failed"], shape), P_range=(math.exp(lo), math.exp(hi)),
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
+        at_range_end=nominal.at_range_end)
 
 
 @dataclass(frozen=True)
-class FeedRatioUncertainty(_AnswerRanking):
+class FeedRatioUncertainty(_AnswerRanking, InverseAnswer):
     """The feed ratio for a target conversion, with its interval from data uncertainty.
 
     Attributes as :class:`PressureUncertainty`, with ``ratio``, ``lower``, ``median``,
     ``upper`` [mol/mol], ``relative_uncertainty`` = u(ln ratio) [-], ``ratio_name``,
-    ``sample_ratio`` and the operating ``T`` [K] and ``P`` [Pa].
+    ``sample_ratio`` and the operating ``T`` [K] and ``P`` [Pa]; the shared answer shape
+    with ``value`` = ``ratio`` [mol/mol].
     """
+
+    value_field: ClassVar[str] = "ratio"
+    unit: ClassVar[str] = "mol/mol"
 
     ratio: object
     lower: object
@@ -568,11 +531,7 @@ class FeedRatioUncertainty(_AnswerRanking):
     sample_ratio: np.ndarray | None = field(default=None, repr=False)
     n_failed: object = 0
     message: object = ""
-
-    @property
-    def shape(self) -> tuple:
-        return np.shape(self.ratio)
-
+    at_range_end: object = False
 
 
 def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P, key: str, target, *,
@@ -596,7 +555,7 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
     >>> round(r.ratio, 3), r.relative_uncertainty < 0.05
     (1.705, True)
     """
-    _check_method(method, samples, level)
+    check_method(method, samples, level, seed)
     db = database or bundled_database()
     nominal = feed_ratio_for_conversion(species, feed, T, P, key, target, ratio=ratio, ratio_range=ratio_range,
                                         reactions=reactions, gas_model=gas_model, approach=approach, database=db)
@@ -613,18 +572,18 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
     key_r = db.resolve(key)
     base = {db.resolve(k): float(to_si(v, "amount")) for k, v in feed.items()}
     species_all = list(species) + ([spec.numerator] if spec.numerator not in species else [])
-    probe = equilibrium(species_all, spec.apply(base, np.exp(0.5 * (lo + hi)), db), float(np.nanmean(T_eq)),
+    probe = equilibrium(species_all, spec.feed_at(base, np.exp(0.5 * (lo + hi)), db), float(np.nanmean(T_eq)),
                         float(np.nanmean(P_c)), reactions=reactions, gas_model=gas_model, key=key_r, database=db,
                         warn=False)
     names = list(probe.species)
     pm = parameter_map(names, database=db, overrides=overrides, defaults=defaults)
 
     def system_for(x):
-        fed = spec.apply(base, np.exp(np.asarray(x, dtype=float)), db)
+        fed = spec.feed_at(base, np.exp(np.asarray(x, dtype=float)), db)
         rows = np.zeros((np.size(x), len(names)))
         for k, v in fed.items():
             rows[:, names.index(k)] = np.broadcast_to(v, np.shape(x))
-        return _system(species_all, rows, names, probe.gas_mask, key=key_r, reactions=probe.reactions,
+        return batched_system(rows, names, probe.gas_mask, key=key_r, reactions=probe.reactions,
                        gas_model=gas_model, database=db, binary_interaction=None)
 
     def conversion_at(x, cases, shift):
@@ -634,7 +593,7 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
 
     x0 = np.log(np.where(reached, r0, 1.0))
     found = _inverse_interval(
-        conversion_at, lambda rows: _dY_dg(system_for(x0[rows]), T_eq[rows], P_c[rows])[:, 0, :],
+        conversion_at, lambda rows: output_gibbs_derivatives(system_for(x0[rows]), T_eq[rows], P_c[rows])[:, 0, :],
         x0, reached, tg, T_eq, lo, hi, pm, method=method, samples=samples, seed=seed, level=level)
     with np.errstate(over="ignore"):
         lower, median, upper = (np.exp(found[k]) for k in ("lower", "median", "upper"))
@@ -642,21 +601,22 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
     full = _interval_message(method, samples, seed, found, bool(np.any(np.isfinite(r0) & at_end)),
                              nominal.message)
     return FeedRatioUncertainty(
-        ratio=_shape_out(np.where(reached, r0, np.nan), shape), lower=_shape_out(lower, shape),
-        median=_shape_out(median, shape), upper=_shape_out(upper, shape),
-        relative_uncertainty=_shape_out(found["spread"], shape), reached=_shape_out(reached, shape),
-        beyond_range=_shape_out(found["beyond"], shape), T=_shape_out(T_op, shape), P=_shape_out(P_c, shape),
-        target=_shape_out(tg, shape), key=key_r, ratio_name=nominal.ratio_name, method=method,
+        ratio=shape_out(np.where(reached, r0, np.nan), shape), lower=shape_out(lower, shape),
+        median=shape_out(median, shape), upper=shape_out(upper, shape),
+        relative_uncertainty=shape_out(found["spread"], shape), reached=shape_out(reached, shape),
+        beyond_range=shape_out(found["beyond"], shape), T=shape_out(T_op, shape), P=shape_out(P_c, shape),
+        target=shape_out(tg, shape), key=key_r, ratio_name=nominal.ratio_name, method=method,
         level=float(level), samples=samples if method == "monte-carlo" else 0,
         seed=seed if method == "monte-carlo" else None,
         sensitivity=found["sens"].reshape(shape + (len(pm.data),)), data=pm.data, sample_ratio=sample_r,
-        n_failed=_shape_out(found["n_failed"], shape),
-        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape))
+        n_failed=shape_out(found["n_failed"], shape),
+        message=full[0] if not shape else np.array(full, dtype=object).reshape(shape),
+        at_range_end=nominal.at_range_end)
 
 
-def _system_for_cases(system: _System, P_cases) -> _System:
+def _system_for_cases(system: BatchedSystem, P_cases) -> BatchedSystem:
     """The system with one feed row per case (the inverse questions share one feed)."""
     n = np.size(P_cases)
-    return _System(system.names, {k: np.broadcast_to(v[:1], (n,)).copy() for k, v in system.feed.items()},
+    return BatchedSystem(system.names, {k: np.broadcast_to(v[:1], (n,)).copy() for k, v in system.feed.items()},
                    system.gas_mask, system.key, system.reactions, system.gas_model, system.database,
                    system.binary_interaction)

@@ -41,29 +41,28 @@ the applicable local codes and licensed engineering practice.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Callable, Mapping, Sequence
+from typing import Callable, ClassVar, Mapping, Sequence
 
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.reactions import Reaction, bundled_database
-from ...thermo.units import to_kelvin, to_pascal, to_si
+from ...thermo.reactions import bundled_database
+from ...thermo.units import to_kelvin, to_si
+from ..core.inputs import (broadcast_shape, conversion_targets, feed_mapping, pressures, quantity,
+                           reaction_list, species_names, temperatures, whole_number)
 from ..core.result import EquilibriumInputError
-from .roots import _Search
-from .roots import _inverse_search
-from .feeds import approach_kelvin
-from .feeds import feed_ratio_spec
-from .feeds import resolve_feed
+from .answers import InverseAnswer, shape_out
+from .feeds import approach_kelvin, feed_ratio_spec, resolve_feed
 from .maps import solve_points
+from .roots import InverseSearch, inverse_search
 
 
 #: Largest number of states per batched solver call inside the inverse questions.
 BATCH = 20000
 
 
-
 # =========================================================================== helpers
-def _species_list(species, feed_names, rxns, db, extra=()) -> list[str]:
+def species_list(species, feed_names, rxns, db, extra=()) -> list[str]:
     names: list[str] = []
     for n in list(species) + list(feed_names) + list(extra):
         r = db.resolve(n)
@@ -88,7 +87,6 @@ def _conversion(names, feed: Mapping[str, np.ndarray], T, P, *, key, reactions, 
                               approach=approach, database=db)
         out[sl] = res.conversion(key)
     return out
-
 
 
 def _num(x: float, decimals: int = 2) -> str:
@@ -128,7 +126,7 @@ def _ratio_variable(label: str) -> _Variable:
                      lambda lo, hi: f"with {label} between {lo:.4g} and {hi:.4g}")
 
 
-def _messages(search: _Search, var: _Variable, key: str, target, conditions, lo, hi, from_u,
+def _messages(search: InverseSearch, var: _Variable, key: str, target, conditions, lo, hi, from_u,
               approach) -> list[str]:
     """One plain-language sentence per question (formatting only)."""
     out = []
@@ -167,10 +165,6 @@ def _messages(search: _Search, var: _Variable, key: str, target, conditions, lo,
     return out
 
 
-def _shape_out(x, shape):
-    x = np.asarray(x)
-    return x.reshape(shape) if shape else x.reshape(()).item()
-
 
 def _object_array(items, shape):
     arr = np.empty(len(items), dtype=object)
@@ -179,29 +173,32 @@ def _object_array(items, shape):
     return arr.reshape(shape) if shape else arr[0]
 
 
-def _prepare(species, feed, key, target, reactions, approach, database, extra=()):
+def _prepare(species, feed, key, target, reactions, approach, database, n_scan, extra=()):
+    """Checked common inputs of the three questions (EquilibriumInputError naming the
+    argument otherwise)."""
     db = database or bundled_database()
+    whole_number(n_scan, "n_scan", 2)
     dT = approach_kelvin(approach)
-    base = resolve_feed(feed, db)
+    base = resolve_feed(feed_mapping(feed), db)
+    if not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be the name of the key reactant (text), got {key!r}")
     key = db.resolve(key)
-    rxns = tuple(Reaction.parse(r, db) if isinstance(r, str) else r for r in (reactions or ()))
-    names = _species_list(species, base, rxns, db, extra)
+    rxns = reaction_list(reactions, db)
+    names = species_list(species_names(species), base, rxns, db, extra)
     if key not in names:
         raise EquilibriumInputError(f"key reactant {key!r} is not among the species {names}")
     if base.get(key, 0.0) <= 0 and key not in extra:
         raise EquilibriumInputError(f"the key reactant {key} must be in the feed")
-    target = np.asarray(to_si(target, "dimensionless"), dtype=float)
-    if np.any(~np.isfinite(target)) or np.any(target >= 1):
-        raise EquilibriumInputError("target conversion must be finite and below 1")
+    target = conversion_targets(target)
     return db, dT, base, key, rxns, names, target
 
 
-def _range(rng, kind, what):
-    try:
-        lo, hi = rng
-    except (TypeError, ValueError):
-        raise EquilibriumInputError(f"{what}: give (low, high)") from None
-    lo, hi = float(to_si(lo, kind)), float(to_si(hi, kind))
+def search_range(rng, kind, what, reader=None):
+    """A search range (low, high) in SI, 0 < low < high, both finite."""
+    if isinstance(rng, (str, bytes)) or not isinstance(rng, (tuple, list, np.ndarray)) or len(rng) != 2:
+        raise EquilibriumInputError(f"{what}: give (low, high), got {rng!r}")
+    read = reader or (lambda v: to_si(v, kind))
+    lo, hi = (float(quantity(read(v), "dimensionless", what)) for v in rng)
     if not (0 < lo < hi) or not np.isfinite(hi):
         raise EquilibriumInputError(f"{what}: need 0 < low < high, got ({lo:g}, {hi:g})")
     return lo, hi
@@ -209,7 +206,7 @@ def _range(rng, kind, what):
 
 # =========================================================================== results
 @dataclass(frozen=True)
-class TemperatureAnswer:
+class TemperatureAnswer(InverseAnswer):
     """Temperature at which the equilibrium conversion of ``key`` reaches ``target``.
 
     Scalars for a single question; arrays of the broadcast shape of P and target otherwise
@@ -236,7 +233,14 @@ class TemperatureAnswer:
     P : float | ndarray
         Pressure [Pa].
     target, key, approach, message
+    value, unit, status, shape
+        The shared answer shape (:class:`~eqdesign.solve.studies.answers.InverseAnswer`):
+        ``value`` is ``T``, ``unit`` ``"K"``, ``status`` per question ``"reached"``,
+        ``"search-range end"`` or ``"not reachable"``.
     """
+
+    value_field: ClassVar[str] = "T"
+    unit: ClassVar[str] = "K"
 
     T: object
     reached: object
@@ -254,13 +258,17 @@ class TemperatureAnswer:
 
 
 @dataclass(frozen=True)
-class PressureAnswer:
+class PressureAnswer(InverseAnswer):
     """Pressure at which the equilibrium conversion of ``key`` reaches ``target``.
 
     Attributes: ``P`` [Pa], ``reached``, ``at_range_end``, ``conversion_at_P`` [-], ``best_conversion`` [-],
     ``best_P`` [Pa], ``crossings`` (values in Pa), ``T`` [K], ``T_equilibrium`` [K],
     ``target``, ``key``, ``approach`` [K], ``message``; shapes as in :class:`TemperatureAnswer`.
+    ``value`` is ``P``, ``unit`` ``"Pa"``; ``status`` as in :class:`TemperatureAnswer`.
     """
+
+    value_field: ClassVar[str] = "P"
+    unit: ClassVar[str] = "Pa"
 
     P: object
     reached: object
@@ -278,14 +286,18 @@ class PressureAnswer:
 
 
 @dataclass(frozen=True)
-class FeedRatioAnswer:
+class FeedRatioAnswer(InverseAnswer):
     """Feed ratio (numerator/denominator amount) at which the conversion reaches ``target``.
 
     Attributes: ``ratio`` [mol/mol], ``ratio_name`` (``"H2O/CO"`` or ``"steam-to-carbon"``),
     ``reached``, ``at_range_end``, ``conversion_at_ratio`` [-], ``best_conversion`` [-], ``best_ratio``
     [mol/mol], ``crossings``, ``T`` [K], ``P`` [Pa], ``T_equilibrium`` [K], ``target``,
     ``key``, ``approach`` [K], ``message``; shapes as in :class:`TemperatureAnswer`.
+    ``value`` is ``ratio``, ``unit`` ``"mol/mol"``; ``status`` as in :class:`TemperatureAnswer`.
     """
+
+    value_field: ClassVar[str] = "ratio"
+    unit: ClassVar[str] = "mol/mol"
 
     ratio: object
     ratio_name: str
@@ -329,7 +341,7 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     key : str
         Key reactant.
     target : float | array_like
-        Wanted conversion of ``key`` [-] (below 1).
+        Wanted conversion of ``key`` [-], strictly between 0 and 1.
     T_range : (T_low, T_high)
         Search range [K] (numbers or strings such as ``"300 degC"``).
     reactions : sequence of str, optional
@@ -357,14 +369,15 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     >>> round(ans.T, 1), ans.reached
     (833.2, True)
     """
-    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach, database)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    shape = np.broadcast_shapes(P_arr.shape, target.shape)
+    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach,
+                                                      database, n_scan)
+    P_arr = pressures(P)
+    shape = broadcast_shape(P=P_arr, target=target)
     P_c = np.broadcast_to(P_arr, shape).reshape(-1)
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(P_c <= 0):
         raise EquilibriumInputError("pressures must be above 0 Pa")
-    lo, hi = _range((to_kelvin(T_range[0]), to_kelvin(T_range[1])), "temperature", "T_range")
+    lo, hi = search_range(T_range, "temperature", "T_range", reader=to_kelvin)
     if dT and lo - dT <= 0:
         raise EquilibriumInputError("T_range minus the approach must stay above 0 K")
     feed_c = {k: np.float64(v) for k, v in base.items()}
@@ -374,7 +387,7 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
                            approach=dT, db=db)
 
     S = tg.size
-    search = _inverse_search(evaluate, np.full(S, lo), np.full(S, hi), tg, n_scan=n_scan, utol=1e-4,
+    search = inverse_search(evaluate, np.full(S, lo), np.full(S, hi), tg, n_scan=n_scan, utol=1e-4,
                              rtol=1e-6, from_u=lambda u: u)
     T_ans = search.value
     conv_at, T_eq = _at_answers(names, lambda idx: feed_c, np.nan_to_num(T_ans, nan=lo), P_c, T_ans, key=key,
@@ -382,12 +395,12 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     conditions = [f"at {_bar(p)}" for p in P_c]
     msgs = _messages(search, _TEMPERATURE, key, tg, conditions, lo, hi, lambda u: u, dT)
     return TemperatureAnswer(
-        T=_shape_out(T_ans, shape), reached=_shape_out(search.reached, shape),
-        at_range_end=_shape_out(search.whole_range, shape),
-        conversion_at_T=_shape_out(conv_at, shape), best_conversion=_shape_out(search.best_conversion, shape),
-        best_T=_shape_out(search.best_value, shape),
+        T=shape_out(T_ans, shape), reached=shape_out(search.reached, shape),
+        at_range_end=shape_out(search.whole_range, shape),
+        conversion_at_T=shape_out(conv_at, shape), best_conversion=shape_out(search.best_conversion, shape),
+        best_T=shape_out(search.best_value, shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
-        T_equilibrium=_shape_out(T_eq, shape), P=_shape_out(P_c, shape), target=_shape_out(tg, shape),
+        T_equilibrium=shape_out(T_eq, shape), P=shape_out(P_c, shape), target=shape_out(tg, shape),
         key=key, approach=dT, message=_object_array(msgs, shape))
 
 
@@ -443,14 +456,15 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
     >>> round(ans.P / 1e5, 1)
     146.1
     """
-    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach, database)
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, target.shape)
+    db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach,
+                                                      database, n_scan)
+    T_arr = temperatures(T)
+    shape = broadcast_shape(T=T_arr, target=target)
     T_c = np.broadcast_to(T_arr, shape).reshape(-1).astype(float)
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(T_c <= 0) or (dT and np.any(T_c - dT <= 0)):
         raise EquilibriumInputError("temperatures (minus the approach) must be above 0 K")
-    lo, hi = _range(P_range, "pressure", "P_range")
+    lo, hi = search_range(P_range, "pressure", "P_range")
     feed_c = {k: np.float64(v) for k, v in base.items()}
 
     def evaluate(u, case):
@@ -458,7 +472,7 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
                            gas_model=gas_model, approach=dT, db=db)
 
     S = tg.size
-    search = _inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
+    search = inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
                              utol=1e-7, rtol=1e-6, from_u=np.exp)
     P_ans = _snap(np.exp(search.value), lo, hi)
     conv_at, T_eq = _at_answers(names, lambda idx: feed_c, T_c, np.nan_to_num(P_ans, nan=lo), P_ans, key=key,
@@ -466,12 +480,12 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
     conditions = [f"at {_num(t, 2)} K" for t in T_c]
     msgs = _messages(search, _PRESSURE, key, tg, conditions, lo, hi, lambda u: _snap(np.exp(u), lo, hi), dT)
     return PressureAnswer(
-        P=_shape_out(P_ans, shape), reached=_shape_out(search.reached, shape),
-        at_range_end=_shape_out(search.whole_range, shape),
-        conversion_at_P=_shape_out(conv_at, shape), best_conversion=_shape_out(search.best_conversion, shape),
-        best_P=_shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
+        P=shape_out(P_ans, shape), reached=shape_out(search.reached, shape),
+        at_range_end=shape_out(search.whole_range, shape),
+        conversion_at_P=shape_out(conv_at, shape), best_conversion=shape_out(search.best_conversion, shape),
+        best_P=shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
-        T=_shape_out(T_c, shape), T_equilibrium=_shape_out(T_eq, shape), target=_shape_out(tg, shape),
+        T=shape_out(T_c, shape), T_equilibrium=shape_out(T_eq, shape), target=shape_out(tg, shape),
         key=key, approach=dT, message=_object_array(msgs, shape))
 
 
@@ -521,40 +535,40 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
     db = database or bundled_database()
     spec = feed_ratio_spec(ratio, db)
     db, dT, base, key, rxns, names, target = _prepare(species, feed, key, target, reactions, approach, db,
-                                                      extra=(spec.numerator,))
-    T_arr = np.asarray(to_kelvin(T), dtype=float)
-    P_arr = np.asarray(to_pascal(P), dtype=float)
-    shape = np.broadcast_shapes(T_arr.shape, P_arr.shape, target.shape)
+                                                      n_scan, extra=(spec.numerator,))
+    T_arr = temperatures(T)
+    P_arr = pressures(P)
+    shape = broadcast_shape(T=T_arr, P=P_arr, target=target)
     T_c = np.broadcast_to(T_arr, shape).reshape(-1).astype(float)
     P_c = np.broadcast_to(P_arr, shape).reshape(-1).astype(float)
     tg = np.broadcast_to(target, shape).reshape(-1).copy()
     if np.any(T_c <= 0) or (dT and np.any(T_c - dT <= 0)) or np.any(P_c <= 0):
         raise EquilibriumInputError("temperatures (minus the approach) and pressures must be above zero")
-    lo, hi = _range(ratio_range, "dimensionless", "ratio_range")
-    spec.denominator_amount(base, db)        # checks the denominator is fed
+    lo, hi = search_range(ratio_range, "dimensionless", "ratio_range")
+    spec.checked_basis(base, db)        # checks the denominator is fed
 
     def evaluate(u, case):
-        return _conversion(names, spec.apply(base, np.exp(u), db), T_c[case], P_c[case], key=key,
+        return _conversion(names, spec.feed_at(base, np.exp(u), db), T_c[case], P_c[case], key=key,
                            reactions=rxns, gas_model=gas_model, approach=dT, db=db)
 
     S = tg.size
-    search = _inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
+    search = inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
                              utol=1e-7, rtol=1e-6, from_u=np.exp)
     r_ans = _snap(np.exp(search.value), lo, hi)
-    conv_at, T_eq = _at_answers(names, lambda idx: spec.apply(base, r_ans[idx], db), T_c, P_c, r_ans, key=key,
+    conv_at, T_eq = _at_answers(names, lambda idx: spec.feed_at(base, r_ans[idx], db), T_c, P_c, r_ans, key=key,
                                 rxns=rxns, gas_model=gas_model, dT=dT, db=db)
     conditions = [f"at {_num(t, 2)} K and {_bar(p)}" for t, p in zip(T_c, P_c)]
-    msgs = _messages(search, _ratio_variable(spec.label), key, tg, conditions, lo, hi,
+    msgs = _messages(search, _ratio_variable(spec.name), key, tg, conditions, lo, hi,
                      lambda u: _snap(np.exp(u), lo, hi), dT)
     return FeedRatioAnswer(
-        ratio=_shape_out(r_ans, shape), ratio_name=spec.label, reached=_shape_out(search.reached, shape),
-        at_range_end=_shape_out(search.whole_range, shape),
-        conversion_at_ratio=_shape_out(conv_at, shape),
-        best_conversion=_shape_out(search.best_conversion, shape),
-        best_ratio=_shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
+        ratio=shape_out(r_ans, shape), ratio_name=spec.name, reached=shape_out(search.reached, shape),
+        at_range_end=shape_out(search.whole_range, shape),
+        conversion_at_ratio=shape_out(conv_at, shape),
+        best_conversion=shape_out(search.best_conversion, shape),
+        best_ratio=shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
-        T=_shape_out(T_c, shape), P=_shape_out(P_c, shape), T_equilibrium=_shape_out(T_eq, shape),
-        target=_shape_out(tg, shape), key=key, approach=dT, message=_object_array(msgs, shape))
+        T=shape_out(T_c, shape), P=shape_out(P_c, shape), T_equilibrium=shape_out(T_eq, shape),
+        target=shape_out(tg, shape), key=key, approach=dT, message=_object_array(msgs, shape))
 
 
 # =========================================================================== carbon

@@ -26,21 +26,14 @@ from typing import Callable, Mapping, Sequence
 import numpy as np
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.reactions import Reaction, bundled_database
-from .feeds import DEFAULT_CHUNK
-from ..core.result import EquilibriumInputError
-from ..core.result import EquilibriumResult
-from .feeds import FeedRatio
-from ..core.result import NotConvergedWarning
-from .feeds import STEAM
-from .feeds import apply_inert
-from .feeds import approach_kelvin
-from .feeds import axis_values
-from .carbon import carbon_activity
+from ...thermo.reactions import bundled_database
 from ..core.equilibrium import equilibrium
-from .feeds import feed_ratio_spec
-from .feeds import product_per_key_from_reactions
-from .feeds import resolve_feed
+from ..core.inputs import feed_mapping, reaction_list, species_names, whole_number
+from ..core.result import EquilibriumInputError, EquilibriumResult, NotConvergedWarning
+from .carbon import carbon_activity
+from .feeds import (DEFAULT_CHUNK, FeedRatio, STEAM, apply_inert, approach_kelvin, approach_side,
+                    approach_temperatures, axis_values, feed_ratio_spec, product_per_key_from_reactions,
+                    resolve_feed)
 
 
 def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.ndarray, P: np.ndarray, *,
@@ -67,16 +60,14 @@ def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.nda
         res = equilibrium(names, feed, T, P, reactions=reactions, gas_model=gas_model, key=key,
                           database=database, warn=False)
         return res, np.zeros(m, dtype=int)
-    if np.any(T - approach <= 0):
-        raise EquilibriumInputError(f"approach {approach:g} K takes temperatures to or below 0 K")
-    T2 = np.concatenate([T - approach, T + approach])
+    T2 = approach_temperatures(T, approach)
     P2 = np.concatenate([np.broadcast_to(P, T.shape)] * 2)
     feed2 = {k: np.concatenate([np.broadcast_to(np.asarray(v, dtype=float), T.shape)] * 2)
              for k, v in feed.items()}
     both = equilibrium(names, feed2, T2, P2, reactions=reactions, gas_model=gas_model, key=key,
                        database=database, warn=False)
-    x = both.conversion(key)
-    use_hi = x[m:] < x[:m]
+    side = approach_side(both.conversion(key))
+    use_hi = side > 0
     idx = np.where(use_hi, np.arange(m) + m, np.arange(m))
     conv = both.converged[:m] & both.converged[m:]
     amounts = both.amount_array[idx].copy()
@@ -88,7 +79,7 @@ def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.nda
         g0_RT=both.g0_RT[idx], ln_phi_array=None if both.ln_phi_array is None else both.ln_phi_array[idx],
         message=f"{int(m - conv.sum())} of {m} state(s) did not converge on one side of the approach"
         if not conv.all() else "all states converged")
-    return res, np.where(use_hi, 1, -1)
+    return res, side
 
 
 def reaction_enthalpy_per_key(result: EquilibriumResult, key: str, T, database: SpeciesDatabase) -> np.ndarray:
@@ -255,6 +246,7 @@ class ConversionMap:
 
 
 # --------------------------------------------------------------------------- the map
+# Stays long: reads up to four sweep axes, builds the grid and solves it chunk by chunk in order.
 def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, key: str,
                    product=None, feed_ratio=None, steam_to_carbon=None, inert=None,
                    reactions: Sequence[str] | None = None, gas_model: str = "ideal", approach=None,
@@ -316,16 +308,17 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
     """
     db = database or bundled_database()
     dT = approach_kelvin(approach)
-    if chunk < 1:
-        raise EquilibriumInputError("chunk must be a positive number of points")
-    base = resolve_feed(feed, db)
+    whole_number(chunk, "chunk", 1)
+    base = resolve_feed(feed_mapping(feed), db)
+    if not isinstance(key, str):
+        raise EquilibriumInputError(f"key must be the name of the key reactant (text), got {key!r}")
     key = db.resolve(key)
     names: list[str] = []
-    for n in list(species) + list(base):
+    for n in species_names(species) + list(base):
         r = db.resolve(n)
         if r not in names:
             names.append(r)
-    rxns = tuple(Reaction.parse(r, db) if isinstance(r, str) else r for r in (reactions or ()))
+    rxns = reaction_list(reactions, db)
     for r in rxns:
         for n in r.names:
             if n not in names:
@@ -379,7 +372,7 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
 
     specs = [("T", T_ax, "K"), ("P", P_ax, "Pa")]
     if ratio_ax is not None:
-        specs.append((ratio_spec.label, ratio_ax, "mol/mol"))
+        specs.append((ratio_spec.name, ratio_ax, "mol/mol"))
     if inert_ax is not None:
         specs.append((f"{inert_name} fraction", inert_ax, "-"))
     axes = tuple(SweepAxis(n, v.copy(), u) for n, v, u in specs if v.ndim == 1)
@@ -397,7 +390,7 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
     P_flat = column("P", P_ax)
     feed_flat: dict[str, np.ndarray] = {k: np.full(n_points, v) for k, v in base.items()}
     if ratio_spec is not None:
-        feed_flat = ratio_spec.apply(base, column(ratio_spec.label, ratio_ax), db)
+        feed_flat = ratio_spec.feed_at(base, column(ratio_spec.name, ratio_ax), db)
         feed_flat = {k: np.broadcast_to(v, (n_points,)).copy() for k, v in feed_flat.items()}
     if inert_ax is not None:
         feed_flat = apply_inert(feed_flat, inert_name, column(f"{inert_name} fraction", inert_ax))

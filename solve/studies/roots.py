@@ -12,21 +12,43 @@ from dataclasses import dataclass
 import numpy as np
 
 
+def bracketed_roots(f, a, b, fa, fb, *, ftol, xtol, max_iter=100):
+    """Roots of f(x, idx) = 0 in the brackets [a, b], all brackets together.
 
-def _refine(evaluate, a, b, fa, fb, case, *, ftol, utol, max_iter=100):
-    """Roots of f(u, case) = 0 in the brackets [a, b] (fa, fb on opposite sides of 0, with
-    0 counted as non-negative), all brackets together.
+    ``fa``, ``fb`` are f at the ends, on opposite sides of 0 (0 counted as non-negative).
+    ``f(x, idx)`` evaluates the functions of the brackets ``idx`` (indices into ``a``) at
+    the points ``x`` in one batched call.  Illinois regula falsi (M. Dowell, P. Jarratt,
+    BIT 11 (1971) 168-174) with a bisection step every fourth iteration and whenever the
+    secant point leaves the bracket.  A bracket stops when |f| <= ftol (scalar or one per
+    bracket) or when it is narrower than xtol.
 
-    Illinois regula falsi (Dowell and Jarratt, BIT 11 (1971) 168) with a bisection step
-    every fourth iteration and whenever the secant point leaves the bracket.  Stops a
-    bracket when |f| <= ftol (per bracket) or the bracket is narrower than utol.
+    Parameters
+    ----------
+    f : callable
+        ``f(x, idx) -> ndarray`` of the same size as ``x``.
+    a, b, fa, fb : array_like, shape (n,)
+        Bracket ends and f there.
+    ftol : float | array_like, shape (n,)
+        Tolerance on |f| [unit of f].
+    xtol : float
+        Tolerance on the bracket width [unit of x].
+    max_iter : int
+        Iteration limit; a bracket still active then returns its best point so far.
 
     Returns
     -------
-    u, f : ndarray
+    x, fx : ndarray, shape (n,)
         The evaluated point with the smallest |f| per bracket, and f there.
-    ok : ndarray of bool
+    ok : ndarray of bool, shape (n,)
         False where an evaluation failed (NaN) before convergence.
+
+    Examples
+    --------
+    >>> c = np.array([2.0, 3.0])
+    >>> x, fx, ok = bracketed_roots(lambda x, idx: x**2 - c[idx], [1.0, 1.0], [2.0, 2.0],
+    ...                             [-1.0, -2.0], [2.0, 1.0], ftol=1e-12, xtol=1e-14)
+    >>> [round(float(v), 10) for v in x]
+    [1.4142135624, 1.7320508076]
     """
     a, b, fa, fb = (np.array(x, dtype=float) for x in (a, b, fa, fb))
     ga, gb = fa.copy(), fb.copy()
@@ -35,7 +57,7 @@ def _refine(evaluate, a, b, fa, fb, case, *, ftol, utol, max_iter=100):
     ftol = np.broadcast_to(np.asarray(ftol, dtype=float), a.shape)
     ok = np.ones(a.shape, dtype=bool)
     last = np.zeros(a.shape, dtype=int)
-    active = ~((np.abs(best_f) <= ftol) | (np.abs(b - a) <= utol))
+    active = ~((np.abs(best_f) <= ftol) | (np.abs(b - a) <= xtol))
     for it in range(max_iter):
         idx = np.flatnonzero(active)
         if idx.size == 0:
@@ -47,7 +69,7 @@ def _refine(evaluate, a, b, fa, fb, case, *, ftol, utol, max_iter=100):
         width = hi - lo
         bisect = (~np.isfinite(x)) | (x <= lo + 1e-3 * width) | (x >= hi - 1e-3 * width) | (it % 4 == 3)
         x = np.where(bisect, 0.5 * (A + B), x)
-        fx = evaluate(x, case[idx])
+        fx = f(x, idx)
         bad = ~np.isfinite(fx)
         better = np.abs(fx) < np.abs(best_f[idx])
         best_u[idx] = np.where(better, x, best_u[idx])
@@ -64,14 +86,19 @@ def _refine(evaluate, a, b, fa, fb, case, *, ftol, utol, max_iter=100):
         gb[idx] = np.where(replace_a, gb[idx], fx)
         last[idx] = np.where(replace_a, 1, -1)
         ok[idx[bad]] = False
-        done = bad | (np.abs(fx) <= ftol[idx]) | (np.abs(b[idx] - a[idx]) <= utol)
+        done = bad | (np.abs(fx) <= ftol[idx]) | (np.abs(b[idx] - a[idx]) <= xtol)
         active[idx[done]] = False
     return best_u, best_f, ok
 
 
-def _golden_max(evaluate, a, b, case, *, utol, max_iter=60):
+def golden_max(evaluate, a, b, case, *, utol, max_iter=60):
     """Maximum of g(u, case) on [a, b] per case by golden-section search (J. Kiefer,
-    Proc. Am. Math. Soc. 4 (1953) 502), all cases together.  Returns (u, g)."""
+    Proc. Am. Math. Soc. 4 (1953) 502), all cases together.
+
+    ``evaluate(u, case)`` gives g at flat arrays; ``case`` (n,) labels the intervals.
+    Stops when every interval is narrower than ``utol`` or after ``max_iter`` steps.
+    Returns (u, g), each shape (n,): the best point per interval and g there.
+    """
     a, b = np.array(a, dtype=float), np.array(b, dtype=float)
     r = (np.sqrt(5.0) - 1.0) / 2.0
     c = b - r * (b - a)
@@ -115,8 +142,15 @@ class Crossing:
 
 
 @dataclass
-class _Search:
-    """Outcome of a batched inverse search, per case (internal)."""
+class InverseSearch:
+    """Outcome of :func:`inverse_search`, one entry per case (arrays of shape (n_cases,)).
+
+    ``value``: the answer in the search variable u (NaN where not reached); ``reached``;
+    ``whole_range``: the target is met over the whole range (the answer is a range end);
+    ``best_conversion``, ``best_value``: the highest conversion over the range and where;
+    ``crossings``: per case, the list of :class:`Crossing`; ``n_failed_scan``: scan points
+    that failed to solve.
+    """
 
     value: np.ndarray
     reached: np.ndarray
@@ -127,7 +161,7 @@ class _Search:
     n_failed_scan: np.ndarray
 
 
-def _inverse_search(evaluate, u_lo, u_hi, target, *, n_scan, utol, rtol, from_u) -> _Search:
+def inverse_search(evaluate, u_lo, u_hi, target, *, n_scan, utol, rtol, from_u) -> InverseSearch:
     """Scan conversion(u) on a grid per case, refine every crossing of the target, pick the
     answer by the module rule, and find the best conversion.  ``evaluate(u, case)`` gives
     the conversion at flat arrays; ``from_u`` maps u back to the variable."""
@@ -146,8 +180,9 @@ def _inverse_search(evaluate, u_lo, u_hi, target, *, n_scan, utol, rtol, from_u)
     def residual(u, cases):
         return evaluate(u, cases) - target[cases]
 
-    roots_u, roots_f, roots_ok = _refine(residual, grid[ci, ck], grid[ci, ck + 1], f[ci, ck], f[ci, ck + 1],
-                                         ci, ftol=ftol[ci], utol=utol)
+    roots_u, roots_f, roots_ok = bracketed_roots(lambda u, idx: residual(u, ci[idx]), grid[ci, ck],
+                                                 grid[ci, ck + 1], f[ci, ck], f[ci, ck + 1], ftol=ftol[ci],
+                                                 xtol=utol)
     rising = f[ci, ck + 1] >= 0
     roots_u = np.where(roots_ok, roots_u, np.nan)
 
@@ -177,7 +212,7 @@ def _inverse_search(evaluate, u_lo, u_hi, target, *, n_scan, utol, rtol, from_u)
     interior = (k > 0) & (k < n_scan - 1) & np.isfinite(best_c)
     if interior.any():
         ii = np.flatnonzero(interior)
-        gu, gc = _golden_max(evaluate, grid[ii, k[ii] - 1], grid[ii, k[ii] + 1], ii, utol=utol)
+        gu, gc = golden_max(evaluate, grid[ii, k[ii] - 1], grid[ii, k[ii] + 1], ii, utol=utol)
         better = np.isfinite(gc) & (gc > best_c[ii])
         best_c[ii] = np.where(better, gc, best_c[ii])
         best_u[ii] = np.where(better, gu, best_u[ii])
@@ -190,7 +225,7 @@ def _inverse_search(evaluate, u_lo, u_hi, target, *, n_scan, utol, rtol, from_u)
         if roots_ok[j]:
             crossings[ci[j]].append(Crossing(float(from_u(roots_u[j])), float(roots_f[j] + target[ci[j]]),
                                              bool(rising[j])))
-    return _Search(value=value, reached=reached, whole_range=whole, best_conversion=best_c,
+    return InverseSearch(value=value, reached=reached, whole_range=whole, best_conversion=best_c,
                    best_value=best_u, crossings=crossings, n_failed_scan=(~finite).sum(axis=1))
 
 
