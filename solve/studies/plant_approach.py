@@ -285,7 +285,7 @@ def _ln_phi_model(records, gas_model: str):
         return None
     try:
         params = CubicParameters.from_species(records, interaction=binary_interaction_matrix(
-            [sp.name for sp in records]))
+            [sp.name for sp in records]), quantum_gases=True)     # as the solver's gas model
     except ValueError as exc:
         raise PlantApproachInputError(f"gas_model 'peng-robinson': {exc}; use gas_model='ideal' or "
                                       "add critical constants to the database") from None
