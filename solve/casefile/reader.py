@@ -19,9 +19,9 @@ Layout (``layout: eqdesign-case/1``; the demo cases in ``cases/`` show every blo
     studies:      {conversion_map, targets, pressure_options, staged_beds, carbon_limit, uncertainty}
     output:       {plots: [png, svg], tables: true, report: true}
 
-Numbers carry units as text read by pint (``"450 degC"``, ``"30 bar"``, ``"kmol/h"``,
-``"-92.2 kJ/mol"``); ``mol%`` in a feed is read here (pint would read it as
-mol × percent).  Temperatures and pressures must carry a unit; gauge pressures
+Numbers carry units as text read by :mod:`eqdesign.thermo.units` (``"450 degC"``, ``"30 bar"``,
+``"kmol/h"``, ``"-92.2 kJ/mol"``; never evaluated as expressions); ``mol%`` in a feed is read
+there too (pint would read it as mol × percent).  Temperatures and pressures must carry a unit; gauge pressures
 (``barg``, ``psig``) are refused because equilibrium needs absolute pressure.
 """
 from __future__ import annotations
@@ -33,41 +33,20 @@ from pathlib import Path
 from typing import Mapping
 
 
-from ...thermo.database import SpeciesDatabase
-from ...thermo.reactions import Reaction, bundled_database, ReactionError
-from ...thermo.species import Species
-from .schema import CHEMISTRY_KEYS
-from .schema import CONDITIONS_KEYS
-from .schema import Case
-from .yaml_lines import CaseError
-from .yaml_lines import CaseProblem
-from .schema import FEED_KEYS
-from .schema import GAS_MODELS
-from .schema import JOB_KEYS
-from .schema import LAYOUT_ID
-from .schema import OutputChoices
-from .schema import TOP_KEYS
-from .schema import TOP_REQUIRED
-from .schema import UserSpeciesRecord
-from .checker import _Checker
-from .units import _MOL_PERCENT
-from .units import _PERCENT
-from .checker import _REQUIRED_HINTS
-from .studies import _StudyContext
-from .units import _UnitProblem
-from .checker import _check_critical
-from .checker import _check_data_range
-from .units import _dimension_name
-from .checker import _join
-from .studies import _output
-from .units import _parse_quantity
-from .yaml_lines import _read_yaml
-from .checker import _resolve
-from .studies import _studies
-from .units import _to_si
-from .user_species import _user_species
-import pint
 import yaml
+
+from ...thermo.database import SpeciesDatabase
+from ...thermo.reactions import Reaction, ReactionError, bundled_database
+from ...thermo.species import Species
+from ...thermo.units import UnitError, dimension_name, is_quantity, parse_quantity, percent_value, scalar_to_si
+from .checker import REQUIRED_HINTS, Checker, check_critical, check_data_range, join_path, resolve_species
+from .schema import (
+    CHEMISTRY_KEYS, CONDITIONS_KEYS, FEED_KEYS, GAS_MODELS, JOB_KEYS, LAYOUT_ID, TOP_KEYS, TOP_REQUIRED, Case,
+    OutputChoices, UserSpeciesRecord,
+)
+from .studies import StudyContext, read_output, read_studies
+from .user_species import read_user_species
+from .yaml_lines import CaseError, CaseProblem, read_yaml
 # ====================================================================== loading
 
 
@@ -131,7 +110,7 @@ def parse_case(text: str, file: str = "<case>", *, database: SpeciesDatabase | N
     bad.yaml: studies: missing block; add it (at least conversion_map: {})
     """
     try:
-        doc, duplicates = _read_yaml(text)
+        doc, duplicates = read_yaml(text)
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark
         line = mark.line + 1 if mark else None
@@ -139,7 +118,7 @@ def parse_case(text: str, file: str = "<case>", *, database: SpeciesDatabase | N
                                      "quoting near that line", line)]) from None
     except yaml.YAMLError as exc:
         raise CaseError([CaseProblem(file, "", f"not valid YAML ({exc})")]) from None
-    ck = _Checker(file)
+    ck = Checker(file)
     if not isinstance(doc, Mapping):
         ck.add("", "a case file is a YAML mapping of blocks (layout, job, chemistry, feed, conditions, "
                "studies, output); see the files in cases/ for the layout")
@@ -153,11 +132,11 @@ def parse_case(text: str, file: str = "<case>", *, database: SpeciesDatabase | N
     return case
 
 
-def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> Case | None:
+def _build(doc: Mapping, text: str, ck: Checker, base_db: SpeciesDatabase) -> Case | None:
     ck.unknown_keys(doc, "", TOP_KEYS)
     for req in TOP_REQUIRED:
         if req not in doc:
-            ck.add(req, "missing block; add it" + _REQUIRED_HINTS.get(req, ""), None)
+            ck.add(req, "missing block; add it" + REQUIRED_HINTS.get(req, ""), None)
     if "layout" in doc and doc["layout"] != LAYOUT_ID:
         ck.add("layout", f"{doc['layout']!r} is not a layout this version reads; write 'layout: {LAYOUT_ID}'",
                ck.line_of(doc, "layout"))
@@ -176,7 +155,7 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
     db = base_db
     user_records: list[UserSpeciesRecord] = []
     if "user_species" in doc:
-        user_records = _user_species(doc, ck, base_db)
+        user_records = read_user_species(doc, ck, base_db)
         if user_records:
             db = base_db.extended([u.species for u in user_records])
 
@@ -201,7 +180,7 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
                 chem_ok = False
             else:
                 for i, name in enumerate(raw):
-                    resolved = _resolve(ck, db, name, f"chemistry.species[{i}]", ck.line_of(chem, "species"))
+                    resolved = resolve_species(ck, db, name, f"chemistry.species[{i}]", ck.line_of(chem, "species"))
                     if resolved is None:
                         chem_ok = False
                     elif resolved not in species:
@@ -211,7 +190,7 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
             items: list = []
             if isinstance(rx, Mapping):
                 ck.duplicates(rx, "chemistry.reactions")
-                items = [(str(k), v, _join("chemistry.reactions", str(k)), ck.line_of(rx, k)) for k, v in rx.items()]
+                items = [(str(k), v, join_path("chemistry.reactions", str(k)), ck.line_of(rx, k)) for k, v in rx.items()]
             elif isinstance(rx, list):
                 items = [(f"R{i + 1}", v, f"chemistry.reactions[{i}]", ck.line_of(rx, i)) for i, v in enumerate(rx)]
             else:
@@ -269,13 +248,13 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
                 species.append(name)
 
     if chem is not None and "key" in chem:
-        key = _resolve(ck, db, chem["key"], "chemistry.key", ck.line_of(chem, "key"))
+        key = resolve_species(ck, db, chem["key"], "chemistry.key", ck.line_of(chem, "key"))
         if key is not None and feed is not None and feed.get(key, 0.0) <= 0:
             ck.add("chemistry.key", f"the key reactant {key} is not in the feed, so its conversion is "
                    "undefined; feed it or choose a fed reactant as key", ck.line_of(chem, "key"))
             key = None
     if chem is not None and "product" in chem:
-        product = _resolve(ck, db, chem["product"], "chemistry.product", ck.line_of(chem, "product"))
+        product = resolve_species(ck, db, chem["product"], "chemistry.product", ck.line_of(chem, "product"))
         if product is not None and product not in species:
             ck.add("chemistry.product", f"{product} is not among the species of the system; add it to "
                    "chemistry.species", ck.line_of(chem, "product"))
@@ -289,7 +268,7 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
 
     # gas model needs critical constants
     if gas_model == "peng-robinson" and chem_ok:
-        _check_critical(ck, db, species, "chemistry.gas_model", ck.line_of(chem, "gas_model"))
+        check_critical(ck, db, species, "chemistry.gas_model", ck.line_of(chem, "gas_model"))
 
     # ------------------------------------------------------------------ conditions
     temperature = None
@@ -305,21 +284,21 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
     if chem_ok and feed is not None:
         records = [db[n] for n in species]
     if temperature is not None and records:
-        _check_data_range(ck, records, temperature.low, temperature.high, "conditions.temperature",
+        check_data_range(ck, records, temperature.low, temperature.high, "conditions.temperature",
                           ck.line_of(doc.get("conditions"), "temperature"))
 
     # ------------------------------------------------------------------ studies
-    ctx = _StudyContext(db=db, feed=feed, species=species, key=key, temperature=temperature,
+    ctx = StudyContext(db=db, feed=feed, species=species, key=key, temperature=temperature,
                         pressures=pressures, records=records, reactions=parsed_reactions,
                         solver_reactions=solver_reactions,
                         user_uncertainty={u.name: dict(u.uncertainty) for u in user_records if u.uncertainty},
                         folder=Path(ck.file).parent)
-    studies = _studies(doc, ck, ctx) if "studies" in doc else None
+    studies = read_studies(doc, ck, ctx) if "studies" in doc else None
 
     # ------------------------------------------------------------------ output
     output = OutputChoices()
     if "output" in doc:
-        output = _output(doc, ck)
+        output = read_output(doc, ck)
 
     if ck.problems or temperature is None or studies is None or feed is None or key is None:
         if not ck.problems:   # defensive: never return a half-built case silently
@@ -340,7 +319,7 @@ def _build(doc: Mapping, text: str, ck: _Checker, base_db: SpeciesDatabase) -> C
 
 
 
-def _pressures(ck: _Checker, parent, key, path) -> tuple:
+def _pressures(ck: Checker, parent, key, path) -> tuple:
     value = parent[key]
     line = ck.line_of(parent, key)
     if isinstance(value, Mapping):
@@ -372,7 +351,7 @@ def _pressures(ck: _Checker, parent, key, path) -> tuple:
     return tuple(out) if len(out) == len(items) else ()
 
 
-def _feed(doc, ck: _Checker, db: SpeciesDatabase):
+def _feed(doc, ck: Checker, db: SpeciesDatabase):
     feed_sec = ck.section(doc, "feed", "feed", FEED_KEYS, ("composition",))
     if feed_sec is None or "composition" not in feed_sec:
         return None, None, ()
@@ -387,9 +366,9 @@ def _feed(doc, ck: _Checker, db: SpeciesDatabase):
     as_given = []
     ok = True
     for raw_name, value in comp.items():
-        path = _join("feed.composition", str(raw_name))
+        path = join_path("feed.composition", str(raw_name))
         line = ck.line_of(comp, raw_name)
-        name = _resolve(ck, db, str(raw_name), path, line)
+        name = resolve_species(ck, db, str(raw_name), path, line)
         if name is None:
             ok = False
             continue
@@ -399,7 +378,7 @@ def _feed(doc, ck: _Checker, db: SpeciesDatabase):
             continue
         try:
             kind, amount = _feed_amount(value, db[name])
-        except _UnitProblem as exc:
+        except UnitError as exc:
             ck.add(path, str(exc), line)
             ok = False
             continue
@@ -440,12 +419,12 @@ def _feed(doc, ck: _Checker, db: SpeciesDatabase):
             return None, None, ()
         mean_mass = sum(amounts[n] / total * db[n].molar_mass for n in amounts) / 1000.0   # kg/mol
         try:
-            q = _parse_quantity(feed_sec["flow"])
-            if isinstance(q, pint.Quantity) and q.check("[mass] / [time]"):
+            q = parse_quantity(feed_sec["flow"])
+            if is_quantity(q) and q.check("[mass] / [time]"):
                 flow = float(q.to("kg/s").magnitude) / mean_mass
             else:
-                flow = _to_si(feed_sec["flow"], "molar_flow")
-        except _UnitProblem as exc:
+                flow = scalar_to_si(feed_sec["flow"], "molar_flow")
+        except UnitError as exc:
             ck.add("feed.flow", str(exc), ck.line_of(feed_sec, "flow"))
             return None, None, ()
         if flow <= 0:
@@ -462,11 +441,11 @@ _KIND_WORDS = {"percent": "mol%", "flow": "flows (e.g. kmol/h)", "amount": "amou
 def _feed_amount(value, sp: Species) -> tuple[str, float]:
     """(kind, value) of one feed entry: percent [mol%], flow [mol/s], amount [mol], relative."""
     if isinstance(value, str):
-        m = _MOL_PERCENT.match(value) or _PERCENT.match(value)
-        if m:
-            return "percent", float(m.group(1))
-    q = _parse_quantity(value)
-    if not isinstance(q, pint.Quantity):
+        percent = percent_value(value)
+        if percent is not None:
+            return "percent", percent
+    q = parse_quantity(value)
+    if not is_quantity(q):
         return "relative", float(q)
     if q.dimensionless:
         return "relative", float(q.to("dimensionless").magnitude)
@@ -478,5 +457,5 @@ def _feed_amount(value, sp: Species) -> tuple[str, float]:
         return "amount", float(q.to("g").magnitude) / sp.molar_mass
     if q.check("[mass] / [time]"):
         return "flow", float(q.to("g/s").magnitude) / sp.molar_mass
-    raise _UnitProblem(f"{value!r} is {_dimension_name(q)}, not a feed amount; write mol%, a molar flow "
+    raise UnitError(f"{value!r} is {dimension_name(q)}, not a feed amount; write mol%, a molar flow "
                        "('300 kmol/h'), an amount ('1 kmol'), a mass flow ('600 t/d') or a plain number")

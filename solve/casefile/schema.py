@@ -8,12 +8,11 @@ from typing import Mapping
 
 import numpy as np
 
+from ...thermo.data_uncertainty import DATUM_KINDS
 from ...thermo.database import SpeciesDatabase
 from ...thermo.species import Species
-from ...thermo.data_uncertainty import DATUM_KINDS
-from ..studies.uncertainty import SETTINGS_KEYS
-from ..studies.uncertainty import UncertaintySettings
 from ..studies.feeds import hydrocarbon_carbon
+from ..studies.uncertainty import SETTINGS_KEYS, UncertaintySettings
 
 
 LAYOUT_ID = "eqdesign-case/1"

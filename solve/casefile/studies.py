@@ -9,53 +9,25 @@ from typing import Mapping
 
 import numpy as np
 
+from ...thermo.data_uncertainty import DATUM_KINDS, UncertaintyDefaults, UncertaintyInputError
 from ...thermo.database import SpeciesDatabase
-from .schema import BEDS_KEYS
-from .schema import CARBON_KEYS
-from .schema import CarbonLimitStudy
-from .yaml_lines import CaseProblem
-from .schema import ConversionMapStudy
-from ...thermo.data_uncertainty import DATUM_KINDS
-from .schema import FeedRatio
-from .schema import GAS_MODELS
-from .schema import GRID_KEYS
-from .schema import Grid
-from .schema import MAP_KEYS
-from .schema import MAX_POINTS
-from .schema import OUTPUT_KEYS
-from .schema import OutputChoices
-from .schema import PLOT_FORMATS
-from .schema import PRESSURE_OPTION_KEYS
-from .schema import PressureOptionsStudy
-from .schema import RATIO_KEYS
-from .schema import SOLVE_FOR
-from .schema import SPAN_KEYS
-from .schema import STUDY_KEYS
-from .schema import StagedBedsStudy
-from .schema import Studies
-from .schema import TARGET_KEYS
-from .schema import TargetQuestion
-from ...thermo.data_uncertainty import UncertaintyDefaults
-from ...thermo.data_uncertainty import UncertaintyInputError
-from ..studies.uncertainty import UncertaintySettings
-from .checker import _Checker
-from .yaml_lines import _Map
-from .checker import _REQUIRED_HINTS
-from .units import _UnitProblem
-from .checker import _check_critical
-from .checker import _check_data_range
-from .units import _fraction
-from .checker import _resolve
-from ..core.problem import element_matrix
-from ..core.problem import invariant_basis
-from ..studies.uncertainty import parameter_map
+from ...thermo.units import UnitError, fraction
+from ..core.problem import element_matrix, invariant_basis, stoichiometric_matrix
+from ..studies.uncertainty import UncertaintySettings, parameter_map
+from .checker import REQUIRED_HINTS, Checker, check_critical, check_data_range, resolve_species
+from .schema import (
+    BEDS_KEYS, CARBON_KEYS, GAS_MODELS, GRID_KEYS, MAP_KEYS, MAX_POINTS, OUTPUT_KEYS, PLOT_FORMATS,
+    PRESSURE_OPTION_KEYS, RATIO_KEYS, SOLVE_FOR, SPAN_KEYS, STUDY_KEYS, TARGET_KEYS, CarbonLimitStudy,
+    ConversionMapStudy, FeedRatio, Grid, OutputChoices, PressureOptionsStudy, StagedBedsStudy, Studies,
+    TargetQuestion,
+)
 from .uncertainty_settings import settings_from_mapping
-from ..core.problem import stoichiometric_matrix
+from .yaml_lines import CaseProblem, LineMap
 # ====================================================================== studies
 
 
 @dataclass
-class _StudyContext:
+class StudyContext:
     db: SpeciesDatabase
     feed: dict | None
     species: list
@@ -69,11 +41,11 @@ class _StudyContext:
     folder: Path = Path(".")                               # folder of the case file
 
 
-def _studies(doc, ck: _Checker, ctx: _StudyContext) -> Studies | None:
+def read_studies(doc, ck: Checker, ctx: StudyContext) -> Studies | None:
     sec = ck.section(doc, "studies", "studies", STUDY_KEYS, what="study")
     if sec is None:
         return None
-    kept = _Map({k: v for k, v in sec.items() if v is not False}, line=getattr(sec, "line", None))
+    kept = LineMap({k: v for k, v in sec.items() if v is not False}, line=getattr(sec, "line", None))
     kept.lines = dict(getattr(sec, "lines", {}))      # 'study: false' switches a study off
     sec = kept
     if not sec:
@@ -106,7 +78,7 @@ def _studies(doc, ck: _Checker, ctx: _StudyContext) -> Studies | None:
 
 
 # ---------------------------------------------------------------------- data uncertainty
-def _uncertainty(sec, ck: _Checker, ctx: _StudyContext) -> UncertaintySettings | None:
+def _uncertainty(sec, ck: Checker, ctx: StudyContext) -> UncertaintySettings | None:
     """The ``studies.uncertainty`` switch: settings checked by the uncertainty module
     (:func:`eqdesign.solve.casefile.uncertainty_settings.settings_from_mapping`), each of its problem lines
     turned into a case problem with the line of its key; then the overrides checked against
@@ -116,7 +88,7 @@ def _uncertainty(sec, ck: _Checker, ctx: _StudyContext) -> UncertaintySettings |
     line = ck.line_of(sec, "uncertainty")
     block = sec["uncertainty"]
     if block is True or block is None:                    # 'uncertainty: true' or '{}': the defaults
-        block = _Map(line=line)
+        block = LineMap(line=line)
     if isinstance(block, Mapping):
         ck.duplicates(block, path)
         ov = block.get("overrides")
@@ -146,7 +118,7 @@ def _uncertainty(sec, ck: _Checker, ctx: _StudyContext) -> UncertaintySettings |
         involved = None                                   # a missing default: reported below
     for raw, entry in (overrides.items() if isinstance(overrides, Mapping) and ctx.records else ()):
         opath, oline = f"{path}.overrides.{raw}", ck.line_of(overrides, raw)
-        name = _resolve(ck, ctx.db, raw, opath, oline)
+        name = resolve_species(ck, ctx.db, raw, opath, oline)
         if name is None:
             ok = False
             continue
@@ -217,7 +189,7 @@ def _with_fix(key: str, message: str) -> str:
     return message
 
 
-def _line_of_path(ck: _Checker, block, rest: str, line) -> int | None:
+def _line_of_path(ck: Checker, block, rest: str, line) -> int | None:
     """Line of the key at ``rest`` (".overrides.NH3.entropy") inside ``block``."""
     node = block
     for part in [p for p in rest.split(".") if p]:
@@ -235,7 +207,7 @@ def _optional_section(sec, key, ck, path, allowed, required=()):
     """A study may be written as 'name: {}' or 'name: true' for its defaults."""
     value = sec[key]
     if value is True or value is None:
-        return _Map()
+        return LineMap()
     return ck.section(sec, key, path, allowed, required, what="study")
 
 
@@ -260,10 +232,10 @@ def _feed_ratio(ck, parent, key, path, ctx, *, need_values: bool) -> FeedRatio |
     r = ck.section(parent, key, path, RATIO_KEYS, ("vary", "per"), what="feed-ratio")
     if r is None or "vary" not in r or "per" not in r:
         return None
-    vary = _resolve(ck, ctx.db, r["vary"], f"{path}.vary", ck.line_of(r, "vary"))
+    vary = resolve_species(ck, ctx.db, r["vary"], f"{path}.vary", ck.line_of(r, "vary"))
     per_raw = r["per"]
     per = "carbon" if isinstance(per_raw, str) and per_raw.strip().lower() == "carbon" else \
-        _resolve(ck, ctx.db, per_raw, f"{path}.per", ck.line_of(r, "per"))
+        resolve_species(ck, ctx.db, per_raw, f"{path}.per", ck.line_of(r, "per"))
     if vary is None or per is None:
         return None
     if ctx.feed is None:
@@ -306,7 +278,7 @@ def _feed_ratio(ck, parent, key, path, ctx, *, need_values: bool) -> FeedRatio |
         needed = GRID_KEYS if need_values else SPAN_KEYS
         for req in needed:
             if req not in r:
-                ck.add(path, f"missing key '{req}' of the ratio range" + _REQUIRED_HINTS.get(req, ""),
+                ck.add(path, f"missing key '{req}' of the ratio range" + REQUIRED_HINTS.get(req, ""),
                        getattr(r, "line", None))
                 return None
         lo = ck.ratio_number(r, "low", f"{path}.low")
@@ -345,8 +317,8 @@ def _targets(sec, ck, ctx) -> list | None:
             continue
         label = ck.text(q, "label", f"{path}.label") or f"target {i + 1}"
         try:
-            x = _fraction(q["conversion"])
-        except _UnitProblem as exc:
+            x = fraction(q["conversion"])
+        except UnitError as exc:
             ck.add(f"{path}.conversion", str(exc), ck.line_of(q, "conversion"))
             continue
         if not 0.0 < x < 1.0:
@@ -375,7 +347,7 @@ def _targets(sec, ck, ctx) -> list | None:
             T = ck.quantity(q, "temperature", f"{path}.temperature", "temperature")
             if T is None:
                 continue
-            if ctx.records and not _check_data_range(ck, ctx.records, T, T, f"{path}.temperature",
+            if ctx.records and not check_data_range(ck, ctx.records, T, T, f"{path}.temperature",
                                                      ck.line_of(q, "temperature")):
                 continue
         ratio = None
@@ -387,7 +359,7 @@ def _targets(sec, ck, ctx) -> list | None:
             search = _search_range(ck, q, path, "temperature", ctx)
             if search is None:
                 continue
-            if "search" in q and ctx.records and not _check_data_range(
+            if "search" in q and ctx.records and not check_data_range(
                     ck, ctx.records, search[0], search[1], f"{path}.search", ck.line_of(q, "search")):
                 continue
         elif solve_for == "pressure":
@@ -493,7 +465,7 @@ def _pressure_options(sec, ck, ctx) -> PressureOptionsStudy | None:
                     ck.problems[-1] = CaseProblem(ck.file, ck.problems[-1].key, ck.problems[-1].message,
                                                   ck.line_of(m, "temperatures"))
                 return None
-            if ctx.records and not _check_data_range(ck, ctx.records, T, T, f"{path}.temperatures[{i}]",
+            if ctx.records and not check_data_range(ck, ctx.records, T, T, f"{path}.temperatures[{i}]",
                                                      ck.line_of(m, "temperatures")):
                 return None
             temps.append(T)
@@ -511,7 +483,7 @@ def _pressure_options(sec, ck, ctx) -> PressureOptionsStudy | None:
             if v not in models:
                 models.append(v)
         if "peng-robinson" in models and ctx.records:
-            _check_critical(ck, ctx.db, ctx.species, f"{path}.gas_models", ck.line_of(m, "gas_models"))
+            check_critical(ck, ctx.db, ctx.species, f"{path}.gas_models", ck.line_of(m, "gas_models"))
     if not ctx.pressures:
         return None
     return PressureOptionsStudy(tuple(temps), tuple(models))
@@ -531,7 +503,7 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
         if T_in is None:
             ck.problems[-1] = CaseProblem(ck.file, sub, ck.problems[-1].message, ck.line_of(m, "inlet_temperature"))
             return None
-        if ctx.records and not _check_data_range(ck, ctx.records, T_in, T_in, sub, ck.line_of(m, "inlet_temperature")):
+        if ctx.records and not check_data_range(ck, ctx.records, T_in, T_in, sub, ck.line_of(m, "inlet_temperature")):
             return None
         inlets.append(T_in)
     if not inlets:
@@ -549,8 +521,8 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
             return None
     if "target" in m:
         try:
-            target = _fraction(m["target"])
-        except _UnitProblem as exc:
+            target = fraction(m["target"])
+        except UnitError as exc:
             ck.add(f"{path}.target", str(exc), ck.line_of(m, "target"))
             return None
         if not 0.0 < target < 1.0:
@@ -588,15 +560,15 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
                 return None
             fractions = {}
             for name, frac in pairs.items():
-                resolved = _resolve(ck, ctx.db, name, bpath, line)
+                resolved = resolve_species(ck, ctx.db, name, bpath, line)
                 if resolved is None:
                     return None
                 if resolved not in ctx.species:
                     ck.add(bpath, f"{resolved} is not a species of the system", line)
                     return None
                 try:
-                    f = _fraction(frac)
-                except _UnitProblem as exc:
+                    f = fraction(frac)
+                except UnitError as exc:
                     ck.add(bpath, str(exc), line)
                     return None
                 if not 0.0 < f <= 1.0:
@@ -628,7 +600,7 @@ def _carbon_limit(sec, ck, ctx) -> CarbonLimitStudy | None:
     grid = ctx.temperature
     if "temperature" in m:
         grid = ck.grid(m, "temperature", f"{path}.temperature", "temperature", default_points=21)
-        if grid is not None and ctx.records and not _check_data_range(
+        if grid is not None and ctx.records and not check_data_range(
                 ck, ctx.records, grid.low, grid.high, f"{path}.temperature", ck.line_of(m, "temperature")):
             return None
     if P is None or grid is None:
@@ -636,7 +608,7 @@ def _carbon_limit(sec, ck, ctx) -> CarbonLimitStudy | None:
     return CarbonLimitStudy(ratio, P, grid)
 
 
-def _output(doc, ck) -> OutputChoices:
+def read_output(doc, ck) -> OutputChoices:
     value = doc["output"]
     if value is None:
         return OutputChoices()

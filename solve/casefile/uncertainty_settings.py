@@ -6,13 +6,8 @@ from typing import Mapping
 
 import numpy as np
 
-from ...thermo.data_uncertainty import DATUM_KINDS
-from ...thermo.data_uncertainty import METHODS
-from ..studies.uncertainty import SETTINGS_KEYS
-from ...thermo.data_uncertainty import UncertaintyInputError
-from ..studies.uncertainty import UncertaintySettings
-from ...thermo.data_uncertainty import _NUMBER
-from ...thermo.data_uncertainty import _read_u
+from ...thermo.data_uncertainty import _NUMBER, DATUM_KINDS, METHODS, UncertaintyInputError, _read_u
+from ..studies.uncertainty import SETTINGS_KEYS, UncertaintySettings
 
 
 def settings_from_mapping(mapping: Mapping | None, *, where: str = "uncertainty") -> UncertaintySettings:

@@ -50,7 +50,7 @@ class CaseError(Exception):
 
 
 # ====================================================================== YAML with lines
-class _Map(dict):
+class LineMap(dict):
     """A YAML mapping that remembers the line of each key."""
 
     def __init__(self, *a, line: int | None = None, **kw):
@@ -60,7 +60,7 @@ class _Map(dict):
         self.duplicates: list = []      # (key, line) of keys given twice
 
 
-class _Seq(list):
+class LineList(list):
     """A YAML sequence that remembers the line of each item."""
 
     line: int | None = None
@@ -84,7 +84,7 @@ _CaseLoader.add_implicit_resolver("tag:yaml.org,2002:bool", re.compile(r"^(?:tru
 
 def _construct_map(loader: _CaseLoader, node):
     loader.flatten_mapping(node)
-    out = _Map()
+    out = LineMap()
     out.line = node.start_mark.line + 1
     for key_node, value_node in node.value:
         key = loader.construct_object(key_node, deep=True)
@@ -99,7 +99,7 @@ def _construct_map(loader: _CaseLoader, node):
 
 
 def _construct_seq(loader: _CaseLoader, node):
-    out = _Seq()
+    out = LineList()
     out.line = node.start_mark.line + 1
     for item in node.value:
         out.append(loader.construct_object(item, deep=True))
@@ -111,7 +111,7 @@ _CaseLoader.add_constructor(yaml.resolver.BaseResolver.DEFAULT_MAPPING_TAG, _con
 _CaseLoader.add_constructor(yaml.resolver.BaseResolver.DEFAULT_SEQUENCE_TAG, _construct_seq)
 
 
-def _read_yaml(text: str):
+def read_yaml(text: str):
     loader = _CaseLoader(text)
     loader.duplicates = []
     try:
