@@ -8,7 +8,7 @@ from typing import Mapping
 
 
 from ...thermo.database import SpeciesDatabase, UnknownSpeciesError
-from ...thermo.units import UnitError, pure_number, scalar_to_si
+from ...thermo.units import UnitError, excerpt, pure_number, scalar_to_si
 from .schema import GRID_KEYS, LAYOUT_ID, LOW_T_MARGIN, MAX_POINTS, Grid
 from .yaml_lines import CaseProblem, LineList, LineMap
 # ====================================================================== the checker
@@ -78,20 +78,21 @@ class Checker:
             self.add(path, str(exc), line)
             return None
         if not math.isfinite(si):
-            self.add(path, f"{value!r} is not a finite number", line)
+            self.add(path, f"{excerpt(value)} is not a finite number", line)
             return None
         if kind == "temperature" and si <= 0:
-            self.add(path, f"{value!r} is at or below absolute zero; give a temperature above 0 K", line)
+            self.add(path, f"{excerpt(value)} is at or below absolute zero; give a temperature above 0 K", line)
             return None
         if positive and si <= 0:
-            self.add(path, f"{value!r} must be greater than zero", line)
+            self.add(path, f"{excerpt(value)} must be greater than zero", line)
             return None
         return si
 
     def integer(self, parent, key, path, low: int, high: int) -> int | None:
         value = parent[key]
-        if isinstance(value, bool) or not isinstance(value, (int, float)) or int(value) != value:
-            self.add(path, f"{value!r} is not a whole number; give a count such as {max(low, 5)}",
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) \
+                or int(value) != value:
+            self.add(path, f"{excerpt(value)} is not a whole number; give a count such as {max(low, 5)}",
                      self.line_of(parent, key))
             return None
         if not low <= int(value) <= high:
@@ -114,7 +115,7 @@ class Checker:
     def boolean(self, parent, key, path, default: bool) -> bool:
         value = parent.get(key, default)
         if not isinstance(value, bool):
-            self.add(path, f"{value!r} is not true or false; write true or false", self.line_of(parent, key))
+            self.add(path, f"{excerpt(value)} is not true or false; write true or false", self.line_of(parent, key))
             return default
         return value
 
@@ -134,10 +135,10 @@ class Checker:
         if lo is None or hi is None or n is None:
             return None
         if hi < lo:
-            self.add(path, f"low ({g['low']!r}) is above high ({g['high']!r}); swap them", self.line_of(g, "low"))
+            self.add(path, f"low ({excerpt(g['low'])}) is above high ({excerpt(g['high'])}); swap them", self.line_of(g, "low"))
             return None
         if hi == lo and n > 1:
-            self.add(path, f"low and high are equal ({g['low']!r}); widen the range or set points: 1",
+            self.add(path, f"low and high are equal ({excerpt(g['low'])}); widen the range or set points: 1",
                      self.line_of(g, "low"))
             return None
         return Grid(lo, hi, n)
@@ -149,7 +150,7 @@ class Checker:
             self.add(path, str(exc) + "; give a ratio in mol/mol such as 3.0", self.line_of(parent, key))
             return None
         if not math.isfinite(v) or v < 0:
-            self.add(path, f"{parent[key]!r}: a feed ratio must be zero or positive", self.line_of(parent, key))
+            self.add(path, f"{excerpt(parent[key])}: a feed ratio must be zero or positive", self.line_of(parent, key))
             return None
         return v
 
@@ -186,6 +187,24 @@ REQUIRED_HINTS = {
 }
 
 
+def report_non_finite(ck: Checker, doc) -> int:
+    """Report every number of the document that is not finite (YAML ``.nan``, ``.inf``,
+    ``1e999``); returns how many.  Done once before the checks, so none of them meets one."""
+    found = 0
+    stack = [(doc, "")]
+    while stack:
+        node, path = stack.pop()
+        items = node.items() if isinstance(node, Mapping) else enumerate(node) if isinstance(node, list) else ()
+        for key, value in items:
+            sub = join_path(path, key if isinstance(node, list) else str(key))
+            if isinstance(value, float) and not math.isfinite(value):
+                ck.add(sub, f"{value!r} is not a finite number; give a finite value", ck.line_of(node, key))
+                found += 1
+            elif isinstance(value, (Mapping, list)):
+                stack.append((value, sub))
+    return found
+
+
 def join_path(path: str, key) -> str:
     if isinstance(key, int):
         return f"{path}[{key}]"
@@ -194,7 +213,7 @@ def join_path(path: str, key) -> str:
 
 def resolve_species(ck: Checker, db: SpeciesDatabase, name, path: str, line) -> str | None:
     if not isinstance(name, str) or not name.strip():
-        ck.add(path, f"{name!r} is not a species name; write a name such as NH3", line)
+        ck.add(path, f"{excerpt(name)} is not a species name; write a name such as NH3", line)
         return None
     try:
         return db.resolve(name)

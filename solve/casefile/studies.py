@@ -11,7 +11,7 @@ import numpy as np
 
 from ...thermo.data_uncertainty import DATUM_KINDS, UncertaintyDefaults, UncertaintyInputError
 from ...thermo.database import SpeciesDatabase
-from ...thermo.units import UnitError, fraction
+from ...thermo.units import UnitError, excerpt, fraction
 from ..core.problem import element_matrix, invariant_basis, stoichiometric_matrix
 from ..studies.uncertainty import UncertaintySettings, parameter_map
 from .checker import REQUIRED_HINTS, Checker, check_critical, check_data_range, resolve_species
@@ -287,7 +287,7 @@ def _feed_ratio(ck, parent, key, path, ctx, *, need_values: bool) -> FeedRatio |
         if lo is None or hi is None or n is None:
             return None
         if hi <= lo:
-            ck.add(path, f"low ({r['low']!r}) must be below high ({r['high']!r})", ck.line_of(r, "low"))
+            ck.add(path, f"low ({excerpt(r['low'])}) must be below high ({excerpt(r['high'])})", ck.line_of(r, "low"))
             return None
         values = tuple(float(v) for v in Grid(lo, hi, n).values())
     elif need_values:
@@ -322,7 +322,7 @@ def _targets(sec, ck, ctx) -> list | None:
             ck.add(f"{path}.conversion", str(exc), ck.line_of(q, "conversion"))
             continue
         if not 0.0 < x < 1.0:
-            ck.add(f"{path}.conversion", f"{q['conversion']!r} is impossible: a conversion lies strictly between "
+            ck.add(f"{path}.conversion", f"{excerpt(q['conversion'])} is impossible: a conversion lies strictly between "
                    "0 and 1 (0-100 %); give e.g. 0.25 or '25 %'", ck.line_of(q, "conversion"))
             continue
         if ctx.feed is not None and ctx.key is not None and ctx.records:
@@ -335,7 +335,7 @@ def _targets(sec, ck, ctx) -> list | None:
         solve_for = q["solve_for"]
         if solve_for not in SOLVE_FOR:
             close = difflib.get_close_matches(str(solve_for), SOLVE_FOR, n=1, cutoff=0.4)
-            ck.add(f"{path}.solve_for", f"{solve_for!r} is not something eqdesign can solve for; use "
+            ck.add(f"{path}.solve_for", f"{excerpt(solve_for)} is not something eqdesign can solve for; use "
                    + (f"'{close[0]}'" if close else "temperature, pressure or feed_ratio"), ck.line_of(q, "solve_for"))
             continue
         P = T = None
@@ -469,15 +469,23 @@ def _pressure_options(sec, ck, ctx) -> PressureOptionsStudy | None:
                                                      ck.line_of(m, "temperatures")):
                 return None
             temps.append(T)
+        if not raw:
+            ck.add(f"{path}.temperatures", "is empty; give at least one temperature, e.g. ['450 degC'], or remove "
+                   "the key for the middle of the window", ck.line_of(m, "temperatures"))
+            return None
     elif ctx.temperature is not None:
         temps = [0.5 * (ctx.temperature.low + ctx.temperature.high)]
     models = ["ideal"]
     if "gas_models" in m:
         raw = m["gas_models"] if isinstance(m["gas_models"], list) else [m["gas_models"]]
         models = []
+        if not raw:
+            ck.add(f"{path}.gas_models", "is empty; give ideal and/or peng-robinson, or remove the key for ideal",
+                   ck.line_of(m, "gas_models"))
+            return None
         for v in raw:
             if v not in GAS_MODELS:
-                ck.add(f"{path}.gas_models", f"{v!r} is not a gas model; use ideal and/or peng-robinson",
+                ck.add(f"{path}.gas_models", f"{excerpt(v)} is not a gas model; use ideal and/or peng-robinson",
                        ck.line_of(m, "gas_models"))
                 return None
             if v not in models:
@@ -515,7 +523,7 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
         beds = ck.integer(m, "beds", f"{path}.beds", 1, 8)
         if beds is None:
             return None
-        if len(inlets) > 1 and beds > len(inlets):
+        if len(inlets) > 1 and beds != len(inlets):
             ck.add(f"{path}.beds", f"{beds} beds but {len(inlets)} inlet temperatures; give one inlet temperature "
                    "per bed, or a single one for every bed", ck.line_of(m, "beds"))
             return None
@@ -526,7 +534,7 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
             ck.add(f"{path}.target", str(exc), ck.line_of(m, "target"))
             return None
         if not 0.0 < target < 1.0:
-            ck.add(f"{path}.target", f"{m['target']!r} is impossible: a conversion lies strictly between 0 and 1 "
+            ck.add(f"{path}.target", f"{excerpt(m['target'])} is impossible: a conversion lies strictly between 0 and 1 "
                    "(0-100 %); give e.g. '99.5 %'", ck.line_of(m, "target"))
             return None
     if beds is None and target is None:
@@ -551,7 +559,7 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
             bpath = f"{rpath}.{b}"
             line = ck.line_of(rm, b)
             if isinstance(b, bool) or not isinstance(b, int) or not 1 <= b < n_max:
-                ck.add(bpath, f"{b!r} is not a bed with another bed after it; use a bed number from 1 to {n_max - 1}",
+                ck.add(bpath, f"{excerpt(b)} is not a bed with another bed after it; use a bed number from 1 to {n_max - 1}",
                        line)
                 return None
             pairs = {spec: 1.0} if isinstance(spec, str) else spec if isinstance(spec, Mapping) else None
@@ -572,7 +580,7 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
                     ck.add(bpath, str(exc), line)
                     return None
                 if not 0.0 < f <= 1.0:
-                    ck.add(bpath, f"{frac!r}: the fraction removed lies between 0 and 1 (0-100 %)", line)
+                    ck.add(bpath, f"{excerpt(frac)}: the fraction removed lies between 0 and 1 (0-100 %)", line)
                     return None
                 fractions[resolved] = f
             removal[int(b)] = fractions
@@ -625,7 +633,7 @@ def read_output(doc, ck) -> OutputChoices:
             formats = []
             for v in raw:
                 if v not in PLOT_FORMATS:
-                    ck.add("output.plots", f"{v!r} is not a plot format eqdesign writes; use png and/or svg "
+                    ck.add("output.plots", f"{excerpt(v)} is not a plot format eqdesign writes; use png and/or svg "
                            "(or false for none)", ck.line_of(m, "plots"))
                     return OutputChoices()
                 if v not in formats:

@@ -11,7 +11,7 @@ from ...thermo.elements import molar_mass as molar_mass_of, parse_formula
 from ...thermo.models import T_REF
 from ...thermo.reactions import ReactionDerivedModel, ReactionError, ReactionLevelData, reaction_terms
 from ...thermo.species import CriticalConstants, Species
-from ...thermo.units import UnitError, pure_number
+from ...thermo.units import UnitError, excerpt, pure_number
 from .checker import Checker, join_path
 from .schema import (
     CRITICAL_KEYS, FORMATION_KEYS, REACTION_DATA_KEYS, SPAN_KEYS, USER_SPECIES_KEYS, USER_UNCERTAINTY_KEYS,
@@ -46,7 +46,7 @@ def read_user_species(doc, ck: Checker, base_db: SpeciesDatabase) -> list[UserSp
         source = ck.text(sec, "source", f"{path}.source")
         phase = str(sec.get("phase", "gas"))
         if phase not in ("gas", "solid", "liquid"):
-            ck.add(f"{path}.phase", f"{phase!r} is not gas, solid or liquid", ck.line_of(sec, "phase"))
+            ck.add(f"{path}.phase", f"{excerpt(phase)} is not gas, solid or liquid", ck.line_of(sec, "phase"))
             continue
         critical = None
         if "critical" in sec:
@@ -164,7 +164,7 @@ def _data_uncertainty(ck, parent, path, kinds: tuple) -> dict | None:
             ok = False
             continue
         if v < 0:
-            ck.add(f"{upath}.{key}", f"{m[key]!r}: a standard uncertainty is zero or positive; give e.g. {example}",
+            ck.add(f"{upath}.{key}", f"{excerpt(m[key])}: a standard uncertainty is zero or positive; give e.g. {example}",
                    ck.line_of(m, key))
             ok = False
             continue
@@ -200,7 +200,7 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
         ck.add(f"{rpath}.reaction", str(exc), ck.line_of(r, "reaction"))
         return None
     if name not in stoich or stoich[name] == 0:
-        ck.add(f"{rpath}.reaction", f"{text!r} does not contain {name}; write the reaction that forms it",
+        ck.add(f"{rpath}.reaction", f"{excerpt(text)} does not contain {name}; write the reaction that forms it",
                ck.line_of(r, "reaction"))
         return None
     partners = []
@@ -220,7 +220,7 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
             elements[el] = elements.get(el, 0.0) - nu * n / nu_x
     elements = {el: round(n, 9) for el, n in elements.items() if abs(n) > 1e-9}
     if any(n < 0 for n in elements.values()) or not elements:
-        ck.add(f"{rpath}.reaction", f"{text!r} cannot balance for any composition of {name}; check the reaction",
+        ck.add(f"{rpath}.reaction", f"{excerpt(text)} cannot balance for any composition of {name}; check the reaction",
                ck.line_of(r, "reaction"))
         return None
     formula = str(sec.get("formula", name))
@@ -232,7 +232,7 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
             return None
         if given != elements:
             detail = ", ".join(f"{el} {n:g}" for el, n in sorted(elements.items()))
-            ck.add(f"{rpath}.reaction", f"{text!r} does not balance with formula {formula} (the reaction needs "
+            ck.add(f"{rpath}.reaction", f"{excerpt(text)} does not balance with formula {formula} (the reaction needs "
                    f"{detail}); correct the coefficients or the formula", ck.line_of(r, "reaction"))
             return None
     dh = ck.quantity(r, "enthalpy", f"{rpath}.enthalpy", "molar_energy")
@@ -263,7 +263,7 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
             ck.add(f"{rpath}.K", str(exc) + "; K is dimensionless on the 1 bar standard state", ck.line_of(r, "K"))
             return None
         if not K > 0:
-            ck.add(f"{rpath}.K", f"{r['K']!r}: an equilibrium constant is positive", ck.line_of(r, "K"))
+            ck.add(f"{rpath}.K", f"{excerpt(r['K'])}: an equilibrium constant is positive", ck.line_of(r, "K"))
             return None
         level = ReactionLevelData.from_K(K, t_ref, dh, delta_cp=dcp, T_bounds=bounds, delta_n_gas=dn, text=text)
         shown = f"K = {K:g} at {t_ref:g} K"
