@@ -26,30 +26,25 @@ there too (pint would read it as mol × percent).  Temperatures and pressures mu
 """
 from __future__ import annotations
 
-import difflib
-import math
-import re
 from pathlib import Path
 from typing import Mapping
-
 
 import yaml
 
 from ...thermo.database import SpeciesDatabase
-from ...thermo.reactions import Reaction, ReactionError, bundled_database
-from ...thermo.species import Species
-from ...thermo.units import UnitError, dimension_name, excerpt, is_quantity, parse_quantity, percent_value, scalar_to_si
-from .checker import (
-    REQUIRED_HINTS, Checker, check_critical, check_data_range, join_path, report_non_finite, resolve_species,
-)
-from .schema import (
-    CHEMISTRY_KEYS, CONDITIONS_KEYS, FEED_KEYS, GAS_MODELS, JOB_KEYS, LAYOUT_ID, TOP_KEYS, TOP_REQUIRED, Case,
-    OutputChoices, UserSpeciesRecord,
-)
-from .studies import StudyContext, read_output, read_studies
+from ...thermo.reactions import bundled_database
+from ...thermo.units import excerpt
+from .checker import REQUIRED_HINTS, Checker, check_critical, check_data_range, report_non_finite
+from .chemistry import key_and_product, read_chemistry
+from .feed import read_feed
+from .schema import CONDITIONS_KEYS, JOB_KEYS, LAYOUT_ID, TOP_KEYS, TOP_REQUIRED, Case, OutputChoices, UserSpeciesRecord
+from .studies import read_output, read_studies
+from .study_inputs import StudyContext
 from .user_species import read_user_species
 from .workload import estimate_work
 from .yaml_lines import MAX_FILE_BYTES, CaseError, CaseProblem, YamlLimitError, read_yaml
+
+
 # ====================================================================== loading
 
 
@@ -183,115 +178,19 @@ def _build(doc: Mapping, text: str, ck: Checker, base_db: SpeciesDatabase) -> Ca
             db = base_db.extended([u.species for u in user_records])
 
     # ------------------------------------------------------------------ chemistry
-    species: list[str] = []
-    key = product = None
-    reactions: list[tuple[str, str]] = []
-    parsed_reactions: list[Reaction] = []
-    only_named = True
-    gas_model = "ideal"
-    approach = 0.0
-    chem = ck.section(doc, "chemistry", "chemistry", CHEMISTRY_KEYS, ("species", "key")) if "chemistry" in doc else None
-    chem_ok = chem is not None
-    if chem is not None:
-        raw = chem.get("species")
-        if "species" in chem:
-            if isinstance(raw, str):
-                raw = [s for s in re.split(r"[,\s]+", raw) if s]
-            if not isinstance(raw, list) or not raw:
-                ck.add("chemistry.species", "give a list of species names, e.g. [N2, H2, NH3]",
-                       ck.line_of(chem, "species"))
-                chem_ok = False
-            else:
-                for i, name in enumerate(raw):
-                    resolved = resolve_species(ck, db, name, f"chemistry.species[{i}]", ck.line_of(chem, "species"))
-                    if resolved is None:
-                        chem_ok = False
-                    elif resolved not in species:
-                        species.append(resolved)
-        if "reactions" in chem:
-            rx = chem["reactions"]
-            items: list = []
-            if isinstance(rx, Mapping):
-                ck.duplicates(rx, "chemistry.reactions")
-                items = [(str(k), v, join_path("chemistry.reactions", str(k)), ck.line_of(rx, k)) for k, v in rx.items()]
-            elif isinstance(rx, list):
-                items = [(f"R{i + 1}", v, f"chemistry.reactions[{i}]", ck.line_of(rx, i)) for i, v in enumerate(rx)]
-            else:
-                ck.add("chemistry.reactions", "give named reactions as 'name: \"A + B = C\"' lines or a list "
-                       "of reaction texts", ck.line_of(chem, "reactions"))
-                chem_ok = False
-            for name, value, path, line in items:
-                if not isinstance(value, str):
-                    ck.add(path, "a reaction is text such as 'N2 + 3 H2 = 2 NH3'", line)
-                    chem_ok = False
-                    continue
-                try:
-                    r = Reaction.parse(value, db)
-                except ReactionError as exc:
-                    msg = str(exc)
-                    if "does not balance" in msg:
-                        msg += "; correct the coefficients"
-                    elif "unknown species" in msg:
-                        msg += " (a species missing from the database can be added under user_species)"
-                    ck.add(path, msg, line)
-                    chem_ok = False
-                    continue
-                reactions.append((name, r.text))
-                parsed_reactions.append(r)
-                for n in r.names:
-                    if n not in species:
-                        species.append(n)
-        only_named = ck.boolean(chem, "only_named_reactions", "chemistry.only_named_reactions", True)
-        if only_named and "only_named_reactions" in chem and chem["only_named_reactions"] is True and not reactions \
-                and "reactions" not in chem:
-            ck.add("chemistry.only_named_reactions", "is true but no reactions are named; add "
-                   "chemistry.reactions or remove only_named_reactions", ck.line_of(chem, "only_named_reactions"))
-        if "gas_model" in chem:
-            gm = chem["gas_model"]
-            if gm not in GAS_MODELS:
-                close = difflib.get_close_matches(str(gm), GAS_MODELS, n=1, cutoff=0.4)
-                ck.add("chemistry.gas_model", f"{excerpt(gm)} is not a gas model; use "
-                       + (f"'{close[0]}'" if close else " or ".join(GAS_MODELS)), ck.line_of(chem, "gas_model"))
-            else:
-                gas_model = gm
-        if "approach" in chem:
-            a = ck.quantity(chem, "approach", "chemistry.approach", "temperature_difference")
-            if a is not None:
-                if a < 0 or a > 200:
-                    ck.add("chemistry.approach", f"{excerpt(chem['approach'])}: an approach margin lies between 0 and "
-                           "200 K; a typical value is 0-30 K", ck.line_of(chem, "approach"))
-                else:
-                    approach = a
+    chem = read_chemistry(doc, ck, db)
+    species = list(chem.species)
 
     # ------------------------------------------------------------------ feed
-    feed, feed_flow, feed_as_given = _feed(doc, ck, db) if "feed" in doc else (None, None, ())
+    feed, feed_flow, feed_as_given = read_feed(doc, ck, db) if "feed" in doc else (None, None, ())
     if feed:
         for name in feed:
             if name not in species:
                 species.append(name)
-
-    if chem is not None and "key" in chem:
-        key = resolve_species(ck, db, chem["key"], "chemistry.key", ck.line_of(chem, "key"))
-        if key is not None and feed is not None and feed.get(key, 0.0) <= 0:
-            ck.add("chemistry.key", f"the key reactant {key} is not in the feed, so its conversion is "
-                   "undefined; feed it or choose a fed reactant as key", ck.line_of(chem, "key"))
-            key = None
-    if chem is not None and "product" in chem:
-        product = resolve_species(ck, db, chem["product"], "chemistry.product", ck.line_of(chem, "product"))
-        if product is not None and product not in species:
-            ck.add("chemistry.product", f"{product} is not among the species of the system; add it to "
-                   "chemistry.species", ck.line_of(chem, "product"))
-            product = None
-    solver_reactions = bool(reactions) and only_named
-    if solver_reactions and key is not None and parsed_reactions:
-        if not any(key in r.names for r in parsed_reactions):
-            ck.add("chemistry.key", f"{key} takes part in none of the named reactions, so it cannot convert; "
-                   "choose a reactant of the named reactions", ck.line_of(chem, "key"))
-            key = None
-
-    # gas model needs critical constants
-    if gas_model == "peng-robinson" and chem_ok:
-        check_critical(ck, db, species, "chemistry.gas_model", ck.line_of(chem, "gas_model"))
+    key, product = key_and_product(ck, chem, db, feed, species)
+    solver_reactions = bool(chem.reactions) and chem.only_named
+    if chem.gas_model == "peng-robinson" and chem.ok:     # the gas model needs critical constants
+        check_critical(ck, db, species, "chemistry.gas_model", ck.line_of(chem.block, "gas_model"))
 
     # ------------------------------------------------------------------ conditions
     temperature = None
@@ -304,7 +203,7 @@ def _build(doc: Mapping, text: str, ck: Checker, base_db: SpeciesDatabase) -> Ca
             if "pressure" in cond:
                 pressures = _pressures(ck, cond, "pressure", "conditions.pressure")
     records = []
-    if chem_ok and feed is not None:
+    if chem.ok and feed is not None:
         records = [db[n] for n in species]
     if temperature is not None and records:
         check_data_range(ck, records, temperature.low, temperature.high, "conditions.temperature",
@@ -312,7 +211,7 @@ def _build(doc: Mapping, text: str, ck: Checker, base_db: SpeciesDatabase) -> Ca
 
     # ------------------------------------------------------------------ studies
     ctx = StudyContext(db=db, feed=feed, species=species, key=key, temperature=temperature,
-                        pressures=pressures, records=records, reactions=parsed_reactions,
+                        pressures=pressures, records=records, reactions=list(chem.parsed),
                         solver_reactions=solver_reactions,
                         user_uncertainty={u.name: dict(u.uncertainty) for u in user_records if u.uncertainty},
                         folder=Path(ck.file).parent)
@@ -330,8 +229,9 @@ def _build(doc: Mapping, text: str, ck: Checker, base_db: SpeciesDatabase) -> Ca
     return Case(
         file=ck.file, text=text, title=title, scenario=scenario, prepared_by=prepared_by, notes=notes,
         species=tuple(species), feed_items=tuple(feed.items()), feed_flow=feed_flow,
-        feed_as_given=tuple(feed_as_given), key=key, product=product, reactions=tuple(reactions),
-        only_named_reactions=bool(only_named and reactions), gas_model=gas_model, approach=approach,
+        feed_as_given=tuple(feed_as_given), key=key, product=product, reactions=chem.reactions,
+        only_named_reactions=bool(chem.only_named and chem.reactions), gas_model=chem.gas_model,
+        approach=chem.approach,
         temperature=temperature, pressures=pressures, studies=studies, output=output,
         user_species=tuple(user_records), database=db)
 
@@ -372,113 +272,3 @@ def _pressures(ck: Checker, parent, key, path) -> tuple:
     if not items:
         ck.add(path, "give at least one pressure, e.g. ['150 bar']", line)
     return tuple(out) if len(out) == len(items) else ()
-
-
-def _feed(doc, ck: Checker, db: SpeciesDatabase):
-    feed_sec = ck.section(doc, "feed", "feed", FEED_KEYS, ("composition",))
-    if feed_sec is None or "composition" not in feed_sec:
-        return None, None, ()
-    comp = feed_sec["composition"]
-    if not isinstance(comp, Mapping) or not comp:
-        ck.add("feed.composition", "give each feed species and its amount, e.g. {N2: 1, H2: 3} or "
-               "{N2: '25 mol%', H2: '75 mol%'}", ck.line_of(feed_sec, "composition"))
-        return None, None, ()
-    ck.duplicates(comp, "feed.composition")
-    kinds: dict[str, str] = {}
-    amounts: dict[str, float] = {}
-    as_given = []
-    ok = True
-    for raw_name, value in comp.items():
-        path = join_path("feed.composition", str(raw_name))
-        line = ck.line_of(comp, raw_name)
-        name = resolve_species(ck, db, str(raw_name), path, line)
-        if name is None:
-            ok = False
-            continue
-        if name in amounts:
-            ck.add(path, f"{raw_name} names {name} again; give each species once", line)
-            ok = False
-            continue
-        try:
-            kind, amount = _feed_amount(value, db[name])
-        except UnitError as exc:
-            ck.add(path, str(exc), line)
-            ok = False
-            continue
-        if not math.isfinite(amount):
-            ck.add(path, f"{excerpt(value)} is not a finite amount", line)
-            ok = False
-            continue
-        if amount < 0:
-            ck.add(path, f"{excerpt(value)} is negative; feed amounts must be zero or positive", line)
-            ok = False
-            continue
-        kinds[name] = kind
-        amounts[name] = amount
-        as_given.append((name, str(value)))
-    if not ok:
-        return None, None, ()
-    distinct = sorted(set(kinds.values()))
-    if len(distinct) > 1:
-        ck.add("feed.composition", "mixes " + " with ".join(_KIND_WORDS[k] for k in distinct)
-               + "; give every entry in the same kind (all mol%, all flows, or all plain numbers)",
-               ck.line_of(feed_sec, "composition"))
-        return None, None, ()
-    kind = distinct[0]
-    total = sum(amounts.values())
-    if total <= 0:
-        ck.add("feed.composition", "every feed amount is zero; feed at least one species",
-               ck.line_of(feed_sec, "composition"))
-        return None, None, ()
-    if kind == "percent" and abs(total - 100.0) > 0.1:
-        ck.add("feed.composition", f"the mol% values add up to {total:.6g}, not 100; correct them, or give "
-               "relative amounts as plain numbers", ck.line_of(feed_sec, "composition"))
-        return None, None, ()
-    flow = total if kind == "flow" else None
-    if "flow" in feed_sec:
-        if kind == "flow":
-            ck.add("feed.flow", "the composition already gives flows; remove feed.flow or give the composition "
-                   "in mol%", ck.line_of(feed_sec, "flow"))
-            return None, None, ()
-        mean_mass = sum(amounts[n] / total * db[n].molar_mass for n in amounts) / 1000.0   # kg/mol
-        try:
-            q = parse_quantity(feed_sec["flow"])
-            if is_quantity(q) and q.check("[mass] / [time]"):
-                flow = float(q.to("kg/s").magnitude) / mean_mass
-            else:
-                flow = scalar_to_si(feed_sec["flow"], "molar_flow")
-        except UnitError as exc:
-            ck.add("feed.flow", str(exc), ck.line_of(feed_sec, "flow"))
-            return None, None, ()
-        if flow <= 0:
-            ck.add("feed.flow", f"{excerpt(feed_sec['flow'])} must be above zero", ck.line_of(feed_sec, "flow"))
-            return None, None, ()
-    feed = {n: a / total for n, a in amounts.items()}
-    return feed, flow, as_given
-
-
-_KIND_WORDS = {"percent": "mol%", "flow": "flows (e.g. kmol/h)", "amount": "amounts (e.g. kmol)",
-               "relative": "plain numbers"}
-
-
-def _feed_amount(value, sp: Species) -> tuple[str, float]:
-    """(kind, value) of one feed entry: percent [mol%], flow [mol/s], amount [mol], relative."""
-    if isinstance(value, str):
-        percent = percent_value(value)
-        if percent is not None:
-            return "percent", percent
-    q = parse_quantity(value)
-    if not is_quantity(q):
-        return "relative", float(q)
-    if q.dimensionless:
-        return "relative", float(q.to("dimensionless").magnitude)
-    if q.check("[substance]"):
-        return "amount", float(q.to("mol").magnitude)
-    if q.check("[substance] / [time]"):
-        return "flow", float(q.to("mol/s").magnitude)
-    if q.check("[mass]"):
-        return "amount", float(q.to("g").magnitude) / sp.molar_mass
-    if q.check("[mass] / [time]"):
-        return "flow", float(q.to("g/s").magnitude) / sp.molar_mass
-    raise UnitError(f"{excerpt(value)} is {dimension_name(q)}, not a feed amount; write mol%, a molar flow "
-                       "('300 kmol/h'), an amount ('1 kmol'), a mass flow ('600 t/d') or a plain number")
