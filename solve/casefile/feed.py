@@ -77,25 +77,33 @@ def read_feed(doc, ck: Checker, db: SpeciesDatabase):
         return None, None, ()
     flow = total if kind == "flow" else None
     if "flow" in feed_sec:
-        if kind == "flow":
-            ck.add("feed.flow", "the composition already gives flows; remove feed.flow or give the composition "
-                   "in mol%", ck.line_of(feed_sec, "flow"))
-            return None, None, ()
-        mean_mass = sum(amounts[n] / total * db[n].molar_mass for n in amounts) / 1000.0   # kg/mol
-        try:
-            q = parse_quantity(feed_sec["flow"])
-            if is_quantity(q) and q.check("[mass] / [time]"):
-                flow = float(q.to("kg/s").magnitude) / mean_mass
-            else:
-                flow = scalar_to_si(feed_sec["flow"], "molar_flow")
-        except UnitError as exc:
-            ck.add("feed.flow", str(exc), ck.line_of(feed_sec, "flow"))
-            return None, None, ()
-        if flow <= 0:
-            ck.add("feed.flow", f"{excerpt(feed_sec['flow'])} must be above zero", ck.line_of(feed_sec, "flow"))
+        flow = _total_flow(ck, feed_sec, kind, amounts, total, db)
+        if flow is None:
             return None, None, ()
     feed = {n: a / total for n, a in amounts.items()}
     return feed, flow, as_given
+
+
+def _total_flow(ck: Checker, feed_sec, kind: str, amounts: dict, total: float, db: SpeciesDatabase) -> float | None:
+    """``feed.flow`` [mol/s], a molar flow or a mass flow through the feed's mean molar mass."""
+    if kind == "flow":
+        ck.add("feed.flow", "the composition already gives flows; remove feed.flow or give the composition "
+               "in mol%", ck.line_of(feed_sec, "flow"))
+        return None
+    mean_mass = sum(amounts[n] / total * db[n].molar_mass for n in amounts) / 1000.0   # kg/mol
+    try:
+        q = parse_quantity(feed_sec["flow"])
+        if is_quantity(q) and q.check("[mass] / [time]"):
+            flow = float(q.to("kg/s").magnitude) / mean_mass
+        else:
+            flow = scalar_to_si(feed_sec["flow"], "molar_flow")
+    except UnitError as exc:
+        ck.add("feed.flow", str(exc), ck.line_of(feed_sec, "flow"))
+        return None
+    if flow <= 0:
+        ck.add("feed.flow", f"{excerpt(feed_sec['flow'])} must be above zero", ck.line_of(feed_sec, "flow"))
+        return None
+    return flow
 
 
 _KIND_WORDS = {"percent": "mol%", "flow": "flows (e.g. kmol/h)", "amount": "amounts (e.g. kmol)",

@@ -151,6 +151,10 @@ def parse_case(text: str, file: str = "<case>", *, database: SpeciesDatabase | N
 
 
 def _build(doc: Mapping, text: str, ck: Checker, base_db: SpeciesDatabase) -> Case | None:
+    """Check every block in dependency order and assemble the :class:`Case` (None on a problem).
+
+    Kept as one sequential routine: each block needs the checked results of those before it.
+    """
     ck.unknown_keys(doc, "", TOP_KEYS)
     for req in TOP_REQUIRED:
         if req not in doc:

@@ -170,43 +170,51 @@ def _staged_beds(sec, ck, ctx) -> StagedBedsStudy | None:
         return None
     removal: dict = {}
     if "interstage_removal" in m:
-        rm = m["interstage_removal"]
-        rpath = f"{path}.interstage_removal"
-        if not isinstance(rm, Mapping) or not rm:
-            ck.add(rpath, "give 'bed number: species' pairs, e.g. {2: SO3} to take SO3 out after bed 2",
-                   ck.line_of(m, "interstage_removal"))
+        removal = _interstage_removal(ck, m, path, beds or (len(inlets) if len(inlets) > 1 else 8), ctx)
+        if removal is None:
             return None
-        n_max = beds or (len(inlets) if len(inlets) > 1 else 8)
-        for b, spec in rm.items():
-            bpath = f"{rpath}.{b}"
-            line = ck.line_of(rm, b)
-            if isinstance(b, bool) or not isinstance(b, int) or not 1 <= b < n_max:
-                ck.add(bpath, f"{excerpt(b)} is not a bed with another bed after it; use a bed number from 1 to {n_max - 1}",
-                       line)
-                return None
-            pairs = {spec: 1.0} if isinstance(spec, str) else spec if isinstance(spec, Mapping) else None
-            if pairs is None:
-                ck.add(bpath, "give a species (all of it is removed) or {species: fraction}", line)
-                return None
-            fractions = {}
-            for name, frac in pairs.items():
-                resolved = resolve_species(ck, ctx.db, name, bpath, line)
-                if resolved is None:
-                    return None
-                if resolved not in ctx.species:
-                    ck.add(bpath, f"{resolved} is not a species of the system", line)
-                    return None
-                try:
-                    f = fraction(frac)
-                except UnitError as exc:
-                    ck.add(bpath, str(exc), line)
-                    return None
-                if not 0.0 < f <= 1.0:
-                    ck.add(bpath, f"{excerpt(frac)}: the fraction removed lies between 0 and 1 (0-100 %)", line)
-                    return None
-                fractions[resolved] = f
-            removal[int(b)] = fractions
     return StagedBedsStudy(tuple(inlets), beds, target, P, removal)
+
+
+def _interstage_removal(ck, m, path: str, n_max: int, ctx) -> dict | None:
+    """``{bed: {species: fraction}}`` of ``interstage_removal`` (beds 1 to ``n_max`` - 1)."""
+    removal: dict = {}
+    rm = m["interstage_removal"]
+    rpath = f"{path}.interstage_removal"
+    if not isinstance(rm, Mapping) or not rm:
+        ck.add(rpath, "give 'bed number: species' pairs, e.g. {2: SO3} to take SO3 out after bed 2",
+               ck.line_of(m, "interstage_removal"))
+        return None
+    for b, spec in rm.items():
+        bpath = f"{rpath}.{b}"
+        line = ck.line_of(rm, b)
+        if isinstance(b, bool) or not isinstance(b, int) or not 1 <= b < n_max:
+            ck.add(bpath, f"{excerpt(b)} is not a bed with another bed after it; use a bed number from 1 to {n_max - 1}",
+                   line)
+            return None
+        pairs = {spec: 1.0} if isinstance(spec, str) else spec if isinstance(spec, Mapping) else None
+        if pairs is None:
+            ck.add(bpath, "give a species (all of it is removed) or {species: fraction}", line)
+            return None
+        fractions = {}
+        for name, frac in pairs.items():
+            resolved = resolve_species(ck, ctx.db, name, bpath, line)
+            if resolved is None:
+                return None
+            if resolved not in ctx.species:
+                ck.add(bpath, f"{resolved} is not a species of the system", line)
+                return None
+            try:
+                f = fraction(frac)
+            except UnitError as exc:
+                ck.add(bpath, str(exc), line)
+                return None
+            if not 0.0 < f <= 1.0:
+                ck.add(bpath, f"{excerpt(frac)}: the fraction removed lies between 0 and 1 (0-100 %)", line)
+                return None
+            fractions[resolved] = f
+        removal[int(b)] = fractions
+    return removal
 
 
 def _carbon_limit(sec, ck, ctx) -> CarbonLimitStudy | None:

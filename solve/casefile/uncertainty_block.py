@@ -43,12 +43,40 @@ def read_uncertainty(sec, ck: Checker, ctx: StudyContext) -> UncertaintySettings
             if not key.startswith(path):
                 key, message = path, text
             ck.add(key, _with_fix(key, message), _line_of_path(ck, block, key[len(path):], line))
+    merged, ok = _merged_overrides(ck, block, path, ctx)       # checked even when a value has a problem
+    ok = ok and settings is not None
+    if not ok:
+        return None
+    defaults = None
+    if settings.defaults_file:
+        file = Path(settings.defaults_file)
+        if not file.is_absolute():
+            file = ctx.folder / file
+        try:
+            defaults = UncertaintyDefaults.from_file(file)
+        except UncertaintyInputError as exc:
+            ck.add(f"{path}.defaults", f"{exc}; give the path of a file of the layout of "
+                   "eqdesign/data/uncertainty_defaults.yaml, relative to the case file", ck.line_of(block, "defaults"))
+            return None
+        settings = replace(settings, defaults_file=str(file))
+    if not ctx.records:
+        return settings                                   # the species have problems of their own
+    try:                                                  # a standard uncertainty for every datum
+        parameter_map(ctx.species, database=ctx.db, overrides=merged or None, defaults=defaults)
+    except UncertaintyInputError as exc:
+        ck.add(path, str(exc), line)
+        return None
+    return replace(settings, overrides=merged)
+
+
+def _merged_overrides(ck: Checker, block, path: str, ctx: StudyContext) -> tuple:
+    """(uncertainties by species and datum kind, ok): the overrides of the block checked
+    against the case's species and merged with those given with the case's own species."""
     reported = {p.key for p in ck.problems}
-    # the species named in the overrides (checked even when a value has a problem)
     merged: dict[str, dict] = {n: dict(u) for n, u in ctx.user_uncertainty.items()}
     with_data = {(n, k) for n, u in ctx.user_uncertainty.items() for k in u}
     overrides = block.get("overrides") if isinstance(block, Mapping) else None
-    ok = settings is not None
+    ok = True
     try:                                                  # species whose data enter the case's results
         involved = {d.species for d in parameter_map(ctx.species, database=ctx.db).data} if ctx.records else set()
     except UncertaintyInputError:
@@ -88,28 +116,7 @@ def read_uncertainty(sec, ck: Checker, ctx: StudyContext) -> UncertaintySettings
                     continue
             if kpath not in reported:
                 merged.setdefault(name, {})[k] = v
-    if not ok:
-        return None
-    defaults = None
-    if settings.defaults_file:
-        file = Path(settings.defaults_file)
-        if not file.is_absolute():
-            file = ctx.folder / file
-        try:
-            defaults = UncertaintyDefaults.from_file(file)
-        except UncertaintyInputError as exc:
-            ck.add(f"{path}.defaults", f"{exc}; give the path of a file of the layout of "
-                   "eqdesign/data/uncertainty_defaults.yaml, relative to the case file", ck.line_of(block, "defaults"))
-            return None
-        settings = replace(settings, defaults_file=str(file))
-    if not ctx.records:
-        return settings                                   # the species have problems of their own
-    try:                                                  # a standard uncertainty for every datum
-        parameter_map(ctx.species, database=ctx.db, overrides=merged or None, defaults=defaults)
-    except UncertaintyInputError as exc:
-        ck.add(path, str(exc), line)
-        return None
-    return replace(settings, overrides=merged)
+    return merged, ok
 
 
 def _with_fix(key: str, message: str) -> str:

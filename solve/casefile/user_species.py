@@ -184,11 +184,9 @@ def _with_critical(sp: Species, critical: CriticalConstants) -> Species:
     return replace(sp, critical=critical)
 
 
-def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserSpeciesRecord | None:
-    rpath = f"{path}.reaction_data"
-    r = ck.section(sec, "reaction_data", rpath, REACTION_DATA_KEYS, ("reaction", "enthalpy"), what="reaction-data")
-    if r is None or "reaction" not in r or "enthalpy" not in r:
-        return None
+def _reaction_formula(ck, sec, r, name, path, rpath, db) -> tuple | None:
+    """(partners [(Species, ν)], ν of the new species, its elements, its formula) from the
+    reaction that forms it, checked against a formula given beside it."""
     text = r["reaction"]
     if not isinstance(text, str):
         ck.add(f"{rpath}.reaction", f"write the reaction that forms {name} as text, e.g. 'A + B = {name}'",
@@ -235,6 +233,19 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
             ck.add(f"{rpath}.reaction", f"{excerpt(text)} does not balance with formula {formula} (the reaction needs "
                    f"{detail}); correct the coefficients or the formula", ck.line_of(r, "reaction"))
             return None
+    return partners, nu_x, elements, formula
+
+
+def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserSpeciesRecord | None:
+    rpath = f"{path}.reaction_data"
+    r = ck.section(sec, "reaction_data", rpath, REACTION_DATA_KEYS, ("reaction", "enthalpy"), what="reaction-data")
+    if r is None or "reaction" not in r or "enthalpy" not in r:
+        return None
+    text = r["reaction"]
+    derived = _reaction_formula(ck, sec, r, name, path, rpath, db)
+    if derived is None:
+        return None
+    partners, nu_x, elements, formula = derived
     dh = ck.quantity(r, "enthalpy", f"{rpath}.enthalpy", "molar_energy")
     t_ref = T_REF
     if "at" in r:
