@@ -67,7 +67,7 @@ class Checker:
             if k not in allowed:
                 close = difflib.get_close_matches(str(k), allowed, n=1, cutoff=0.5)
                 hint = f"did you mean '{close[0]}'?" if close else "valid keys here: " + ", ".join(allowed)
-                self.add(join_path(path, str(k)), f"unknown key '{k}'; {hint}", self.line_of(mapping, k))
+                self.add(join_path(path, str(k)), f"unknown key {excerpt(str(k))}; {hint}", self.line_of(mapping, k))
 
     def quantity(self, parent, key, path, kind, *, require_unit=True, positive=False) -> float | None:
         value = parent[key]
