@@ -101,7 +101,8 @@ def test_peng_robinson_quotient_and_zero_approach(db):
     assert np.max(np.abs(real[rxn].approach)) < 1e-6
     assert np.min(np.abs(ideal[rxn].approach)) > 1.0
     names = list(real.species)
-    params = CubicParameters.from_species([db[n] for n in names], interaction=binary_interaction_matrix(names))
+    params = CubicParameters.from_species([db[n] for n in names], interaction=binary_interaction_matrix(names),
+                                          quantum_gases=True)
     ln_phi = log_fugacity_coefficients(params, T, np.full(3, 100e5), real.mole_fraction_array)
     nu = {"CO": -1.0, "H2": -2.0, "CH3OH": 1.0}
     ln_kphi = sum(nu[n] * ln_phi[:, names.index(n)] for n in nu)

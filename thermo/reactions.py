@@ -87,6 +87,26 @@ def parse_side(side: str, database: SpeciesDatabase | None, text: str) -> dict[s
     return terms
 
 
+def reaction_terms(text: str, database: SpeciesDatabase | None = None) -> dict[str, float]:
+    """Signed coefficients of a reaction text, names as written (not resolved).
+
+    Reactants are negative, products positive; ``=``, ``<=>``, ``<->`` and ``⇌`` separate
+    the sides.  Names are not looked up, so a species not yet in ``database`` may appear.
+
+    >>> reaction_terms("N2 + 3 H2 ⇌ 2 NH3")
+    {'N2': -1.0, 'H2': -3.0, 'NH3': 2.0}
+    """
+    parts = _ARROW.split(text.strip())
+    if len(parts) != 2 or not parts[0].strip() or not parts[1].strip():
+        raise ReactionError(f"reaction {text!r}: write it as 'reactants = products', "
+                            "e.g. 'N2 + 3 H2 = 2 NH3'")
+    terms: dict[str, float] = {}
+    for sign, side in ((-1.0, parts[0]), (1.0, parts[1])):
+        for name, coeff in parse_side(side, database, text).items():
+            terms[name] = terms.get(name, 0.0) + sign * coeff
+    return terms
+
+
 @dataclass(frozen=True)
 class Reaction:
     """A balanced reaction between database species.
@@ -115,18 +135,13 @@ class Reaction:
     def parse(cls, text: str, database: SpeciesDatabase | None = None) -> "Reaction":
         """Read ``"N2 + 3 H2 = 2 NH3"`` (also ``<=>``), resolve names, check the element balance."""
         database = database or bundled_database()
-        parts = _ARROW.split(text.strip())
-        if len(parts) != 2 or not parts[0].strip() or not parts[1].strip():
-            raise ReactionError(f"reaction {text!r}: write it as 'reactants = products', "
-                                "e.g. 'N2 + 3 H2 = 2 NH3'")
         stoich: dict[str, float] = {}
-        for sign, side in ((-1.0, parts[0]), (1.0, parts[1])):
-            for name, coeff in parse_side(side, database, text).items():
-                try:
-                    resolved = database.resolve(name)
-                except UnknownSpeciesError as exc:
-                    raise ReactionError(f"reaction {text!r}: {exc}") from None
-                stoich[resolved] = stoich.get(resolved, 0.0) + sign * coeff
+        for name, coeff in reaction_terms(text, database).items():
+            try:
+                resolved = database.resolve(name)
+            except UnknownSpeciesError as exc:
+                raise ReactionError(f"reaction {text!r}: {exc}") from None
+            stoich[resolved] = stoich.get(resolved, 0.0) + coeff
         stoich = {k: v for k, v in stoich.items() if v != 0.0}
         species = tuple(database[name] for name in stoich)
         coefficients = np.array(list(stoich.values()), dtype=float)

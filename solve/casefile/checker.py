@@ -8,21 +8,13 @@ from typing import Mapping
 
 
 from ...thermo.database import SpeciesDatabase, UnknownSpeciesError
-from .yaml_lines import CaseProblem
-from .schema import GRID_KEYS
-from .schema import Grid
-from .schema import LAYOUT_ID
-from .schema import LOW_T_MARGIN
-from .schema import MAX_POINTS
-from .yaml_lines import _Map
-from .yaml_lines import _Seq
-from .units import _UnitProblem
-from .units import _number
-from .units import _to_si
+from ...thermo.units import UnitError, excerpt, pure_number, scalar_to_si
+from .schema import GRID_KEYS, LAYOUT_ID, LOW_T_MARGIN, MAX_POINTS, Grid
+from .yaml_lines import CaseProblem, LineList, LineMap
 # ====================================================================== the checker
 
 
-class _Checker:
+class Checker:
     """Walks a parsed case, collecting problems; each helper returns None on a problem."""
 
     def __init__(self, file: str):
@@ -36,9 +28,9 @@ class _Checker:
     # -------------------------------------------------------------- structure
     @staticmethod
     def line_of(parent, key) -> int | None:
-        if isinstance(parent, _Map):
+        if isinstance(parent, LineMap):
             return parent.lines.get(key, parent.line)
-        if isinstance(parent, _Seq) and isinstance(key, int) and key < len(parent.lines):
+        if isinstance(parent, LineList) and isinstance(key, int) and key < len(parent.lines):
             return parent.lines[key]
         return getattr(parent, "line", None)
 
@@ -60,13 +52,13 @@ class _Checker:
         for req in required:
             if req not in value:
                 self.add(path, f"missing key '{req}'; add '{req}:' under '{path.split('.')[-1]}:'"
-                         + _REQUIRED_HINTS.get(req, ""), getattr(value, "line", line))
+                         + REQUIRED_HINTS.get(req, ""), getattr(value, "line", line))
         return value
 
     def duplicates(self, mapping: Mapping, path: str) -> None:
         """Report keys given twice in one block (YAML would silently keep the last)."""
         for k, line in getattr(mapping, "duplicates", ()):
-            self.add(_join(path, str(k)), f"key '{k}' appears twice in the same block; keep one", line)
+            self.add(join_path(path, str(k)), f"key '{k}' appears twice in the same block; keep one", line)
         self.reported.add(id(mapping))
 
     def unknown_keys(self, mapping: Mapping, path: str, allowed: tuple) -> None:
@@ -75,31 +67,32 @@ class _Checker:
             if k not in allowed:
                 close = difflib.get_close_matches(str(k), allowed, n=1, cutoff=0.5)
                 hint = f"did you mean '{close[0]}'?" if close else "valid keys here: " + ", ".join(allowed)
-                self.add(_join(path, str(k)), f"unknown key '{k}'; {hint}", self.line_of(mapping, k))
+                self.add(join_path(path, str(k)), f"unknown key {excerpt(str(k))}; {hint}", self.line_of(mapping, k))
 
     def quantity(self, parent, key, path, kind, *, require_unit=True, positive=False) -> float | None:
         value = parent[key]
         line = self.line_of(parent, key)
         try:
-            si = _to_si(value, kind, require_unit=require_unit)
-        except _UnitProblem as exc:
+            si = scalar_to_si(value, kind, require_unit=require_unit)
+        except UnitError as exc:
             self.add(path, str(exc), line)
             return None
         if not math.isfinite(si):
-            self.add(path, f"{value!r} is not a finite number", line)
+            self.add(path, f"{excerpt(value)} is not a finite number", line)
             return None
         if kind == "temperature" and si <= 0:
-            self.add(path, f"{value!r} is at or below absolute zero; give a temperature above 0 K", line)
+            self.add(path, f"{excerpt(value)} is at or below absolute zero; give a temperature above 0 K", line)
             return None
         if positive and si <= 0:
-            self.add(path, f"{value!r} must be greater than zero", line)
+            self.add(path, f"{excerpt(value)} must be greater than zero", line)
             return None
         return si
 
     def integer(self, parent, key, path, low: int, high: int) -> int | None:
         value = parent[key]
-        if isinstance(value, bool) or not isinstance(value, (int, float)) or int(value) != value:
-            self.add(path, f"{value!r} is not a whole number; give a count such as {max(low, 5)}",
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) \
+                or int(value) != value:
+            self.add(path, f"{excerpt(value)} is not a whole number; give a count such as {max(low, 5)}",
                      self.line_of(parent, key))
             return None
         if not low <= int(value) <= high:
@@ -122,7 +115,7 @@ class _Checker:
     def boolean(self, parent, key, path, default: bool) -> bool:
         value = parent.get(key, default)
         if not isinstance(value, bool):
-            self.add(path, f"{value!r} is not true or false; write true or false", self.line_of(parent, key))
+            self.add(path, f"{excerpt(value)} is not true or false; write true or false", self.line_of(parent, key))
             return default
         return value
 
@@ -142,30 +135,30 @@ class _Checker:
         if lo is None or hi is None or n is None:
             return None
         if hi < lo:
-            self.add(path, f"low ({g['low']!r}) is above high ({g['high']!r}); swap them", self.line_of(g, "low"))
+            self.add(path, f"low ({excerpt(g['low'])}) is above high ({excerpt(g['high'])}); swap them", self.line_of(g, "low"))
             return None
         if hi == lo and n > 1:
-            self.add(path, f"low and high are equal ({g['low']!r}); widen the range or set points: 1",
+            self.add(path, f"low and high are equal ({excerpt(g['low'])}); widen the range or set points: 1",
                      self.line_of(g, "low"))
             return None
         return Grid(lo, hi, n)
 
     def ratio_number(self, parent, key, path) -> float | None:
         try:
-            v = _number(parent[key])
-        except _UnitProblem as exc:
+            v = pure_number(parent[key])
+        except UnitError as exc:
             self.add(path, str(exc) + "; give a ratio in mol/mol such as 3.0", self.line_of(parent, key))
             return None
         if not math.isfinite(v) or v < 0:
-            self.add(path, f"{parent[key]!r}: a feed ratio must be zero or positive", self.line_of(parent, key))
+            self.add(path, f"{excerpt(parent[key])}: a feed ratio must be zero or positive", self.line_of(parent, key))
             return None
         return v
 
 
-_TYPE_WORDS = {"_Seq": "a list", "list": "a list", "str": "text", "int": "a number", "float": "a number",
+_TYPE_WORDS = {"LineList": "a list", "list": "a list", "str": "text", "int": "a number", "float": "a number",
                "bool": "true/false"}
 
-_REQUIRED_HINTS = {
+REQUIRED_HINTS = {
     "layout": f" (write 'layout: {LAYOUT_ID}' as the first line)",
     "job": " (with at least a title)",
     "title": " (a one-line name of the study)",
@@ -194,15 +187,33 @@ _REQUIRED_HINTS = {
 }
 
 
-def _join(path: str, key) -> str:
+def report_non_finite(ck: Checker, doc) -> int:
+    """Report every number of the document that is not finite (YAML ``.nan``, ``.inf``,
+    ``1e999``); returns how many.  Done once before the checks, so none of them meets one."""
+    found = 0
+    stack = [(doc, "")]
+    while stack:
+        node, path = stack.pop()
+        items = node.items() if isinstance(node, Mapping) else enumerate(node) if isinstance(node, list) else ()
+        for key, value in items:
+            sub = join_path(path, key if isinstance(node, list) else str(key))
+            if isinstance(value, float) and not math.isfinite(value):
+                ck.add(sub, f"{value!r} is not a finite number; give a finite value", ck.line_of(node, key))
+                found += 1
+            elif isinstance(value, (Mapping, list)):
+                stack.append((value, sub))
+    return found
+
+
+def join_path(path: str, key) -> str:
     if isinstance(key, int):
         return f"{path}[{key}]"
     return f"{path}.{key}" if path else str(key)
 
 
-def _resolve(ck: _Checker, db: SpeciesDatabase, name, path: str, line) -> str | None:
+def resolve_species(ck: Checker, db: SpeciesDatabase, name, path: str, line) -> str | None:
     if not isinstance(name, str) or not name.strip():
-        ck.add(path, f"{name!r} is not a species name; write a name such as NH3", line)
+        ck.add(path, f"{excerpt(name)} is not a species name; write a name such as NH3", line)
         return None
     try:
         return db.resolve(name)
@@ -211,14 +222,14 @@ def _resolve(ck: _Checker, db: SpeciesDatabase, name, path: str, line) -> str | 
         return None
 
 
-def _check_critical(ck, db, species, path, line):
+def check_critical(ck, db, species, path, line):
     missing = [n for n in species if db[n].is_gas and db[n].critical is None]
     if missing:
         ck.add(path, "peng-robinson needs critical constants, which the data lack for "
                + ", ".join(missing) + "; use gas_model: ideal, or give critical constants under user_species", line)
 
 
-def _check_data_range(ck, records, low: float, high: float, path: str, line) -> bool:
+def check_data_range(ck, records, low: float, high: float, path: str, line) -> bool:
     lo_sp = max(records, key=lambda sp: sp.T_min)
     hi_sp = min(records, key=lambda sp: sp.T_max)
     ok = True

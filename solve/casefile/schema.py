@@ -7,12 +7,11 @@ from pathlib import Path
 
 import numpy as np
 
+from ...thermo.data_uncertainty import DATUM_KINDS
 from ...thermo.database import SpeciesDatabase
 from ...thermo.species import Species
-from ...thermo.data_uncertainty import DATUM_KINDS
-from ..studies.uncertainty import SETTINGS_KEYS
-from ..studies.uncertainty import UncertaintySettings
 from ..studies.feeds import FeedRatio
+from ..studies.uncertainty import SETTINGS_KEYS, UncertaintySettings
 
 
 LAYOUT_ID = "eqdesign-case/1"

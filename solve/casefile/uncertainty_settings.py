@@ -6,13 +6,9 @@ from typing import Mapping
 
 import numpy as np
 
-from ...thermo.data_uncertainty import DATUM_KINDS
-from ...thermo.data_uncertainty import METHODS
-from ..studies.uncertainty import SETTINGS_KEYS
-from ...thermo.data_uncertainty import UncertaintyInputError
-from ..studies.uncertainty import UncertaintySettings
-from ...thermo.data_uncertainty import NUMBER_TYPES
-from ...thermo.data_uncertainty import read_u
+from ...thermo.data_uncertainty import DATUM_KINDS, METHODS, NUMBER_TYPES, UncertaintyInputError, read_u
+from ...thermo.units import excerpt
+from ..studies.uncertainty import SETTINGS_KEYS, UncertaintySettings
 
 
 def settings_from_mapping(mapping: Mapping | None, *, where: str = "uncertainty") -> UncertaintySettings:
@@ -39,13 +35,13 @@ def settings_from_mapping(mapping: Mapping | None, *, where: str = "uncertainty"
             problems.append(f"{where}.{k}: unknown key; use {', '.join(SETTINGS_KEYS)}")
     method = mapping.get("method", "monte-carlo")
     if method not in METHODS:
-        problems.append(f"{where}.method: {method!r} is not one of {', '.join(METHODS)}")
+        problems.append(f"{where}.method: {excerpt(method)} is not one of {', '.join(METHODS)}")
     samples = mapping.get("samples", 400)
     if isinstance(samples, bool) or not isinstance(samples, (int, np.integer)) or not 20 <= samples <= 100_000:
-        problems.append(f"{where}.samples: give a whole number from 20 to 100000, got {samples!r}")
+        problems.append(f"{where}.samples: give a whole number from 20 to 100000, got {excerpt(samples)}")
     seed = mapping.get("seed", 1)
     if seed is not None and (isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0):
-        problems.append(f"{where}.seed: give a non-negative whole number (or null), got {seed!r}")
+        problems.append(f"{where}.seed: give a non-negative whole number (or null), got {excerpt(seed)}")
     level = mapping.get("level", 0.95)
     lv = None
     if isinstance(level, str) and level.strip().endswith("%"):
@@ -57,7 +53,7 @@ def settings_from_mapping(mapping: Mapping | None, *, where: str = "uncertainty"
         lv = float(level)
     if lv is None or not 0.5 <= lv < 1.0:
         problems.append(f"{where}.level: give a coverage probability from 0.5 to below 1 (e.g. 0.95 or '95 %'), "
-                        f"got {level!r}")
+                        f"got {excerpt(level)}")
     overrides = mapping.get("overrides") or {}
     if not isinstance(overrides, Mapping):
         problems.append(f"{where}.overrides: give a mapping {{species: {{formation_enthalpy: ..., entropy: ...}}}}")

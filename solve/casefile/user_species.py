@@ -2,7 +2,6 @@
 """
 from __future__ import annotations
 
-import re
 from dataclasses import replace
 from typing import Mapping
 
@@ -10,23 +9,18 @@ from typing import Mapping
 from ...thermo.database import DatabaseError, SpeciesDatabase, UnknownSpeciesError, species_from_mapping
 from ...thermo.elements import molar_mass as molar_mass_of, parse_formula
 from ...thermo.models import T_REF
-from ...thermo.reactions import ReactionDerivedModel, ReactionLevelData, parse_side, ReactionError
+from ...thermo.reactions import ReactionDerivedModel, ReactionError, ReactionLevelData, reaction_terms
 from ...thermo.species import CriticalConstants, Species
-from .schema import CRITICAL_KEYS
-from .schema import FORMATION_KEYS
-from .schema import REACTION_DATA_KEYS
-from .schema import SPAN_KEYS
-from .schema import USER_SPECIES_KEYS
-from .schema import USER_UNCERTAINTY_KEYS
-from .schema import UserSpeciesRecord
-from .checker import _Checker
-from .units import _UnitProblem
-from .checker import _join
-from .units import _number
+from ...thermo.units import UnitError, excerpt, pure_number
+from .checker import Checker, join_path
+from .schema import (
+    CRITICAL_KEYS, FORMATION_KEYS, REACTION_DATA_KEYS, SPAN_KEYS, USER_SPECIES_KEYS, USER_UNCERTAINTY_KEYS,
+    UserSpeciesRecord,
+)
 # ====================================================================== user species
 
 
-def _user_species(doc, ck: _Checker, base_db: SpeciesDatabase) -> list[UserSpeciesRecord]:
+def read_user_species(doc, ck: Checker, base_db: SpeciesDatabase) -> list[UserSpeciesRecord]:
     block = doc["user_species"]
     if not isinstance(block, Mapping):
         ck.add("user_species", "give a mapping NAME: {formula, source, formation_data or reaction_data}",
@@ -34,7 +28,7 @@ def _user_species(doc, ck: _Checker, base_db: SpeciesDatabase) -> list[UserSpeci
         return []
     out = []
     for name, entry in block.items():
-        path = _join("user_species", str(name))
+        path = join_path("user_species", str(name))
         line = ck.line_of(block, name)
         name = str(name)
         if name in base_db:
@@ -52,7 +46,7 @@ def _user_species(doc, ck: _Checker, base_db: SpeciesDatabase) -> list[UserSpeci
         source = ck.text(sec, "source", f"{path}.source")
         phase = str(sec.get("phase", "gas"))
         if phase not in ("gas", "solid", "liquid"):
-            ck.add(f"{path}.phase", f"{phase!r} is not gas, solid or liquid", ck.line_of(sec, "phase"))
+            ck.add(f"{path}.phase", f"{excerpt(phase)} is not gas, solid or liquid", ck.line_of(sec, "phase"))
             continue
         critical = None
         if "critical" in sec:
@@ -63,8 +57,8 @@ def _user_species(doc, ck: _Checker, base_db: SpeciesDatabase) -> list[UserSpeci
             tc = ck.quantity(crit, "Tc", f"{path}.critical.Tc", "temperature")
             pc = ck.quantity(crit, "Pc", f"{path}.critical.Pc", "pressure", positive=True)
             try:
-                om = _number(crit["omega"])
-            except _UnitProblem as exc:
+                om = pure_number(crit["omega"])
+            except UnitError as exc:
                 ck.add(f"{path}.critical.omega", str(exc), ck.line_of(crit, "omega"))
                 continue
             if tc is None or pc is None:
@@ -103,8 +97,8 @@ def _cp_coefficients(ck, parent, key, path) -> tuple | None:
                    ck.line_of(parent, key))
             return None
         try:
-            return tuple(_number(v) for v in value)
-        except _UnitProblem as exc:
+            return tuple(pure_number(v) for v in value)
+        except UnitError as exc:
             ck.add(path, str(exc) + "; list coefficients as plain SI numbers", ck.line_of(parent, key))
             return None
     v = ck.quantity(parent, key, path, "molar_heat_capacity")
@@ -170,7 +164,7 @@ def _data_uncertainty(ck, parent, path, kinds: tuple) -> dict | None:
             ok = False
             continue
         if v < 0:
-            ck.add(f"{upath}.{key}", f"{m[key]!r}: a standard uncertainty is zero or positive; give e.g. {example}",
+            ck.add(f"{upath}.{key}", f"{excerpt(m[key])}: a standard uncertainty is zero or positive; give e.g. {example}",
                    ck.line_of(m, key))
             ok = False
             continue
@@ -190,30 +184,21 @@ def _with_critical(sp: Species, critical: CriticalConstants) -> Species:
     return replace(sp, critical=critical)
 
 
-def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserSpeciesRecord | None:
-    rpath = f"{path}.reaction_data"
-    r = ck.section(sec, "reaction_data", rpath, REACTION_DATA_KEYS, ("reaction", "enthalpy"), what="reaction-data")
-    if r is None or "reaction" not in r or "enthalpy" not in r:
-        return None
+def _reaction_formula(ck, sec, r, name, path, rpath, db) -> tuple | None:
+    """(partners [(Species, ν)], ν of the new species, its elements, its formula) from the
+    reaction that forms it, checked against a formula given beside it."""
     text = r["reaction"]
-    if not isinstance(text, str) or "=" not in text:
+    if not isinstance(text, str):
         ck.add(f"{rpath}.reaction", f"write the reaction that forms {name} as text, e.g. 'A + B = {name}'",
                ck.line_of(r, "reaction"))
         return None
-    sides = re.split(r"\s*(?:<=>|<->|=)\s*", text.strip())
-    if len(sides) != 2:
-        ck.add(f"{rpath}.reaction", "write it as 'reactants = products' with one '='", ck.line_of(r, "reaction"))
-        return None
-    stoich: dict[str, float] = {}
     try:
-        for sign, side in ((-1.0, sides[0]), (1.0, sides[1])):
-            for term, c in parse_side(side, db, text).items():
-                stoich[term] = stoich.get(term, 0.0) + sign * c
+        stoich = reaction_terms(text, db)
     except ReactionError as exc:
         ck.add(f"{rpath}.reaction", str(exc), ck.line_of(r, "reaction"))
         return None
     if name not in stoich or stoich[name] == 0:
-        ck.add(f"{rpath}.reaction", f"{text!r} does not contain {name}; write the reaction that forms it",
+        ck.add(f"{rpath}.reaction", f"{excerpt(text)} does not contain {name}; write the reaction that forms it",
                ck.line_of(r, "reaction"))
         return None
     partners = []
@@ -233,7 +218,7 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
             elements[el] = elements.get(el, 0.0) - nu * n / nu_x
     elements = {el: round(n, 9) for el, n in elements.items() if abs(n) > 1e-9}
     if any(n < 0 for n in elements.values()) or not elements:
-        ck.add(f"{rpath}.reaction", f"{text!r} cannot balance for any composition of {name}; check the reaction",
+        ck.add(f"{rpath}.reaction", f"{excerpt(text)} cannot balance for any composition of {name}; check the reaction",
                ck.line_of(r, "reaction"))
         return None
     formula = str(sec.get("formula", name))
@@ -245,9 +230,22 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
             return None
         if given != elements:
             detail = ", ".join(f"{el} {n:g}" for el, n in sorted(elements.items()))
-            ck.add(f"{rpath}.reaction", f"{text!r} does not balance with formula {formula} (the reaction needs "
+            ck.add(f"{rpath}.reaction", f"{excerpt(text)} does not balance with formula {formula} (the reaction needs "
                    f"{detail}); correct the coefficients or the formula", ck.line_of(r, "reaction"))
             return None
+    return partners, nu_x, elements, formula
+
+
+def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserSpeciesRecord | None:
+    rpath = f"{path}.reaction_data"
+    r = ck.section(sec, "reaction_data", rpath, REACTION_DATA_KEYS, ("reaction", "enthalpy"), what="reaction-data")
+    if r is None or "reaction" not in r or "enthalpy" not in r:
+        return None
+    text = r["reaction"]
+    derived = _reaction_formula(ck, sec, r, name, path, rpath, db)
+    if derived is None:
+        return None
+    partners, nu_x, elements, formula = derived
     dh = ck.quantity(r, "enthalpy", f"{rpath}.enthalpy", "molar_energy")
     t_ref = T_REF
     if "at" in r:
@@ -271,12 +269,12 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
                    getattr(r, "line", None))
             return None
         try:
-            K = _number(r["K"])
-        except _UnitProblem as exc:
+            K = pure_number(r["K"])
+        except UnitError as exc:
             ck.add(f"{rpath}.K", str(exc) + "; K is dimensionless on the 1 bar standard state", ck.line_of(r, "K"))
             return None
         if not K > 0:
-            ck.add(f"{rpath}.K", f"{r['K']!r}: an equilibrium constant is positive", ck.line_of(r, "K"))
+            ck.add(f"{rpath}.K", f"{excerpt(r['K'])}: an equilibrium constant is positive", ck.line_of(r, "K"))
             return None
         level = ReactionLevelData.from_K(K, t_ref, dh, delta_cp=dcp, T_bounds=bounds, delta_n_gas=dn, text=text)
         shown = f"K = {K:g} at {t_ref:g} K"

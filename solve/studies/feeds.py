@@ -13,7 +13,7 @@ import numpy as np
 
 from ...thermo.database import SpeciesDatabase
 from ...thermo.reactions import Reaction
-from ...thermo.units import UREG, UnitError, to_si
+from ...thermo.units import temperature_difference, to_si
 from ..core.result import EquilibriumInputError
 
 
@@ -49,25 +49,7 @@ def approach_kelvin(approach) -> float | None:
     """
     if approach is None:
         return None
-    if isinstance(approach, str) or hasattr(approach, "units"):
-        try:
-            q = UREG.Quantity(approach) if isinstance(approach, str) else approach
-        except Exception as exc:
-            raise UnitError(f"cannot read approach {approach!r} as a temperature difference: {exc}") from None
-        if not hasattr(q, "units"):
-            value = float(q)
-        else:
-            try:
-                zero = UREG.Quantity(0.0, q.units).to("K").magnitude
-            except Exception:
-                raise UnitError(f"approach {approach!r} is not a temperature difference; "
-                                "give e.g. '10 K' or '10 delta_degC'") from None
-            if abs(zero) > 0:
-                raise UnitError(f"approach {approach!r} is a temperature, not a difference; "
-                                "write '10 K' or '10 delta_degC'")
-            value = float(q.to("K").magnitude)
-    else:
-        value = float(approach)
+    value = temperature_difference(approach, "approach")
     if not np.isfinite(value) or value < 0:
         raise EquilibriumInputError(
             f"approach must be a finite, non-negative temperature difference, got {approach!r}")

@@ -29,7 +29,7 @@ from eqdesign.solve.report.output import csv_text, output_files
 from eqdesign.solve.report.run import run_case
 from eqdesign.thermo import R, Reaction
 
-ROOT = pathlib.Path(__file__).resolve().parents[1]
+ROOT = pathlib.Path(__file__).resolve().parents[2]
 AMMONIA = ROOT / "cases" / "ammonia_loop_pressure_options.yaml"
 NU = {"N2": -1.0, "H2": -3.0, "NH3": 2.0}                   # N2 + 3 H2 = 2 NH3
 CODATA_U = {"ΔfH°(NH3)": 350.0, "S°(NH3)": 0.05, "S°(H2)": 0.003, "S°(N2)": 0.004}   # (from memory)

@@ -17,7 +17,7 @@ from eqdesign.solve.casefile.yaml_lines import CaseError
 from eqdesign.solve.casefile.reader import load_case, parse_case
 from eqdesign.thermo import Reaction
 
-ROOT = pathlib.Path(__file__).resolve().parents[1]
+ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_CASES = sorted((ROOT / "cases").glob("*.yaml"))
 
 BASE = """\
