@@ -27,14 +27,12 @@ from ..thermo import (
     DatabaseError, Reaction, ReactionError, UnitError, UnknownSpeciesError, bundled_database,
     to_kelvin, to_pascal,
 )
-from .casefile.yaml_lines import CaseError
-from .core.result import EquilibriumInputError
-from .report.run import OutputExistsError
-from .report.output import check_output_folder
-from .core.equilibrium import equilibrium
 from .casefile.reader import load_case
+from .casefile.yaml_lines import CaseError
+from .core.equilibrium import equilibrium
+from .core.result import EquilibriumInputError
+from .report.output import OutputExistsError, check_output_folder, write_outputs
 from .report.run import run_case
-from .report.output import write_outputs
 
 EXIT_INPUT = 2
 

@@ -2,11 +2,8 @@
 """
 from __future__ import annotations
 
-import csv
 import hashlib
-import io
 import json
-import math
 import os
 import shutil
 import tempfile
@@ -14,38 +11,15 @@ from pathlib import Path
 
 import numpy as np
 
-from .run import OutputExistsError
-from .run import RunResult
-from .run import Table
-from .run import UncertaintyRecord
-from .html import build_report
 from . import figures as plots
+from .html import build_report
+from .numbers import json_number
+from .records import RunResult, UncertaintyRecord
+from .tables import csv_text
 
 
-# ============================================================================ writing
-def csv_text(table: Table) -> str:
-    """The table as CSV text (units in the header row; missing values left empty).
-
-    >>> print(csv_text(Table("t", "T", ["T [K]", "conversion [-]", "converged [-]"],
-    ...                      [[700.0, 0.25, True], [800.0, float("nan"), False]])), end="")
-    T [K],conversion [-],converged [-]
-    700,0.25,1
-    800,,0
-    """
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow(table.columns)
-    for row in table.rows:
-        w.writerow([_csv_cell(v) for v in row])
-    return buf.getvalue()
-
-
-def _csv_cell(v):
-    if isinstance(v, (bool, np.bool_)):
-        return "1" if v else "0"
-    if isinstance(v, (float, np.floating)):
-        return "" if not np.isfinite(v) else f"{float(v):.10g}"
-    return v
+class OutputExistsError(FileExistsError):
+    """The output folder exists and is not empty, and ``force`` was not given."""
 
 
 def write_atomic(path: Path, data: bytes) -> None:
@@ -131,10 +105,7 @@ def run_summary(result: RunResult) -> dict:
 def _uncertainty_summary(u: UncertaintyRecord | None) -> dict | None:
     if u is None:
         return None
-
-    def num(x):
-        x = float(x)
-        return x if math.isfinite(x) else ("+inf" if x > 0 else "-inf") if math.isinf(x) else None
+    num = json_number
     return {"method": u.method, "samples": u.samples, "seed": u.seed, "level": u.level,
             "temperature_intervals_K": [{"question": e["label"], "P_bar": e["P"] / 1e5, "T": num(e["T"]),
                                          "lower": num(e["lower"]), "upper": num(e["upper"]), "u": num(e["u"])}
