@@ -155,3 +155,26 @@ def json_number(x):
     """
     x = float(x)
     return x if math.isfinite(x) else ("+inf" if x > 0 else "-inf") if math.isinf(x) else None
+
+
+def exponential_text(ln_value: float) -> str:
+    """``exp(ln_value)`` in e-notation with 5 significant figures, also far beyond the float
+    range (an equilibrium constant of a strongly exothermic reaction at room temperature).
+
+    Parameters
+    ----------
+    ln_value : float  natural logarithm of the number [-]
+
+    >>> exponential_text(math.log(2.5e-7)), exponential_text(1000.0), exponential_text(-1000.0)
+    ('2.5000e-07', '1.9701e+434', '5.0760e-435')
+    """
+    if not math.isfinite(ln_value):
+        return "nan" if math.isnan(ln_value) else ("inf" if ln_value > 0 else "0")
+    if abs(ln_value) < 700.0:
+        return f"{math.exp(ln_value):.4e}"
+    log10 = ln_value / math.log(10.0)
+    exponent = math.floor(log10)
+    mantissa = 10.0 ** (log10 - exponent)
+    if round(mantissa, 4) >= 10.0:
+        mantissa, exponent = mantissa / 10.0, exponent + 1
+    return f"{mantissa:.4f}e{exponent:+d}"
