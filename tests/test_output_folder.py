@@ -4,7 +4,6 @@ removed, SIGTERM handled like Ctrl-C.  (Behaviour of our own design; no outside 
 from __future__ import annotations
 
 import os
-import pathlib
 import signal
 import subprocess
 import sys
@@ -18,7 +17,12 @@ from eqdesign.solve.report.output import OutputFolder, OutputPathError, validate
 
 from test_cli import BASE
 
-ROOT = pathlib.Path(__file__).resolve().parents[1]
+#: The command line with a computation that takes a minute (a run in progress to interrupt).
+SLOW_RUN = ("import sys, time\n"
+            "from eqdesign.solve import cli\n"
+            "real = cli.run_case\n"
+            "cli.run_case = lambda *a, **k: (time.sleep(60), real(*a, **k))[1]\n"
+            "sys.exit(cli.main(sys.argv[1:]))\n")
 
 
 @pytest.fixture
@@ -160,12 +164,12 @@ def test_second_process_is_refused_and_sigterm_is_handled_like_ctrl_c(tmp_path):
     """A run holds the lock while it computes: a second run into the same folder, started
     meanwhile, is refused at once with exit 2.  SIGTERM to the first run then gives exit
     143 with a message, and leaves no folder, no lock and no temporary behind."""
-    case = tmp_path / "full.yaml"
-    case.write_text((ROOT / "cases" / "ammonia_loop_pressure_options.yaml").read_text(encoding="utf-8"),
-                    encoding="utf-8")
+    case = tmp_path / "small.yaml"
+    case.write_text(BASE, encoding="utf-8")
     out = tmp_path / "res"
     command = [sys.executable, "-m", "eqdesign.solve.cli", "run", str(case), "-o", str(out), "-q"]
-    first = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    first = subprocess.Popen([sys.executable, "-c", SLOW_RUN, "run", str(case), "-o", str(out), "-q"],
+                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     lock = tmp_path / ".res.eqdesign-lock"
     deadline = time.monotonic() + 120
     while not lock.exists() and first.poll() is None and time.monotonic() < deadline:
@@ -179,4 +183,4 @@ def test_second_process_is_refused_and_sigterm_is_handled_like_ctrl_c(tmp_path):
     _, err = first.communicate(timeout=120)
     assert first.returncode == 143
     assert "terminated (SIGTERM); no output folder was written" in err and "Traceback" not in err
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["full.yaml"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["small.yaml"]
