@@ -228,6 +228,7 @@ def _result_table(t, case, heading: str = "h3") -> str:
     return "".join(out)
 
 
+# Long on purpose: the section is written top to bottom in reading order (issue 12 restyles it).
 def _uncertainty_section(result) -> str:
     """The data-uncertainty section: method, draws, seed, coverage, assumptions, the
     design temperatures with their intervals, the sensitivity rankings, the band, the
@@ -321,8 +322,9 @@ def _uncertainty_section(result) -> str:
     return "".join(h)
 
 
+# Long on purpose: one pass over the report sections in the order a reader meets them.
 def build_report(result, images: dict | None = None) -> str:
-    """The report of a :class:`eqdesign.solve.report.run.RunResult` as one HTML document.
+    """The report of a :class:`eqdesign.solve.report.records.RunResult` as one HTML document.
 
     ``images`` maps figure names to PNG bytes already rendered (they are embedded as
     they are); other figures are rendered here at ``REPORT_DPI``.

@@ -14,6 +14,8 @@ from .tables import long_table
 
 
 def run_equilibrium_constants(run: RunContext) -> None:
+    """K(T), ln K and ΔrH° of the named reactions over the temperature window: table and ln K
+    against 1000/T figure."""
     c = run.case
     if not c.reactions:
         return
@@ -41,6 +43,8 @@ def run_equilibrium_constants(run: RunContext) -> None:
 
 
 def run_conversion_map(run: RunContext) -> None:
+    """The conversion map over temperature × pressure options (and over the feed ratio when asked):
+    long and wide tables, findings."""
     c = run.case
     with run.study("conversion map"):
         m = run.solve_map("conversion map", T=run.T_grid, P=np.array(c.pressures))
@@ -85,6 +89,8 @@ def run_conversion_map(run: RunContext) -> None:
 
 
 def add_conversion_figures(run: RunContext) -> None:
+    """Conversion against temperature (with design points, bands and intervals of the earlier
+    studies), by feed ratio, and the outlet composition."""
     c = run.case
     m = run.map
     st = c.studies.conversion_map

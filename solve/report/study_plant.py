@@ -14,6 +14,8 @@ from .records import SolverCheck, Table
 
 
 def run_pressure_options(run: RunContext) -> None:
+    """Conversion, outlet fraction, reaction enthalpy and heat released at each pressure option and
+    gas model: table, figure, finding."""
     c = run.case
     st = c.studies.pressure_options
     T = np.array(st.temperatures)
@@ -67,6 +69,8 @@ def run_pressure_options(run: RunContext) -> None:
 
 
 def run_staged_beds(run: RunContext) -> None:
+    """Staged adiabatic beds with interstage cooling: bed table, conversion-temperature diagram,
+    finding, solver check."""
     c = run.case
     st = c.studies.staged_beds
     kw = run.common()
@@ -116,6 +120,8 @@ def run_staged_beds(run: RunContext) -> None:
 
 
 def run_carbon_limit(run: RunContext) -> None:
+    """Graphite activity over temperature × feed ratio and the critical ratio per temperature:
+    tables, map, finding."""
     c = run.case
     st = c.studies.carbon_limit
     T = st.temperature.values()

@@ -12,6 +12,8 @@ from .records import Table
 
 
 def run_targets(run: RunContext) -> None:
+    """Answer each target question (temperature, pressure or feed ratio for a target conversion):
+    the targets table, one finding per answer, the design points of the conversion figure."""
     c = run.case
     kw = run.common()
     rows = []

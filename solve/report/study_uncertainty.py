@@ -30,8 +30,7 @@ def run_uncertainty(run: RunContext) -> None:
     st = c.studies.uncertainty
     kw = st.as_kwargs()
     defaults = kw.get("defaults") or UncertaintyDefaults.bundled()
-    common = dict(reactions=c.solver_reactions, gas_model=c.gas_model, approach=c.approach or None,
-                  database=run.db)
+    common = run.common()
     species = list(c.species)
     band = None
     answers: dict = {}

@@ -32,6 +32,7 @@ def _table(headers: Sequence[str], rows: Sequence[Sequence[str]], caption: str =
     return "\n".join(out)
 
 
+# Long on purpose: half of it is the docstring; the rest writes the section top to bottom.
 def html_section(*, temperatures: Sequence[TemperatureUncertainty] = (),
                  equilibrium_result: EquilibriumUncertainty | None = None, figure_svg: str | None = None,
                  title: str = "Uncertainty from the thermodynamic data", top: int = 5,
