@@ -373,8 +373,15 @@ def cmd_run(args) -> int:
     return 0
 
 
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line (and exit status 2)."""
+
+    def error(self, message: str):
+        self.exit(EXIT_INPUT, f"{self.prog}: {message}; see '{self.prog} --help'\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="eqdesign",
         description="Chemical-equilibrium design from thermodynamic data: K(T), equilibrium "
                     "compositions, conversion maps. Results support, and do not replace, "

@@ -113,3 +113,15 @@ def test_output_piped_into_head_exits_quietly():
                           '| head -n 2', shell=True, capture_output=True, text=True, timeout=300)
     assert proc.stdout.startswith("Reaction: N2 + 3 H2 = 2 NH3")
     assert proc.stderr == ""
+
+
+@pytest.mark.parametrize("argv, fragment", [
+    (["point", "--feed", "N2=1"], "eqdesign point: the following arguments are required: --temperature/-T"),
+    (["point", "--feed", "N2=1", "-T", "700 K", "-P", "1 bar", "--gas-model", "vdw"],
+     "eqdesign point: argument --gas-model: invalid choice: 'vdw'"),
+])
+def test_usage_errors_are_one_line(argv, fragment, capsys):
+    with pytest.raises(SystemExit) as stop:
+        cli.main(argv)
+    err = capsys.readouterr().err
+    one_line_problem(stop.value.code, err, fragment, "see 'eqdesign point --help'")
