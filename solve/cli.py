@@ -9,14 +9,19 @@ Subcommands (each has ``--help``):
 * ``eqdesign run CASE``         run a case file's studies into an output folder (report, CSV, figures)
 
 Bad input gives one message per problem naming what is wrong and how to fix it, exit status 2,
-and nothing is written.
+and nothing is written.  Temperatures and pressures always carry a unit.  Ctrl-C exits with
+status 130 and SIGTERM with 143, each with a message and nothing half-written; output piped
+into a program that stops reading (``| head``) ends quietly.
 """
 from __future__ import annotations
 
 import argparse
 import json
 import math
+import os
+import signal
 import sys
+import threading
 import time
 import warnings
 from pathlib import Path
@@ -27,40 +32,92 @@ from ..thermo import (
     DatabaseError, Reaction, ReactionError, UnitError, UnknownSpeciesError, bundled_database,
     to_kelvin, to_pascal,
 )
-from .casefile.yaml_lines import CaseError
-from .core.result import EquilibriumInputError
-from .report.run import OutputExistsError
-from .report.output import check_output_folder
-from .core.equilibrium import equilibrium
 from .casefile.reader import load_case
+from .casefile.yaml_lines import CaseError
+from .core.equilibrium import equilibrium
+from .core.result import EquilibriumInputError
+from .report.numbers import exponential_text, json_number
+from .report.output import OutputExistsError, OutputFolder, OutputPathError, check_output_folder, output_files
 from .report.run import run_case
-from .report.output import write_outputs
 
 EXIT_INPUT = 2
+#: Exit status after Ctrl-C (128 + SIGINT, as a shell reports it).
+EXIT_INTERRUPTED = 130
+#: Exit status after SIGTERM (128 + SIGTERM).
+EXIT_TERMINATED = 143
+#: Exit status when the reader of the output went away (128 + SIGPIPE).
+EXIT_BROKEN_PIPE = 141
+#: Most rows ``ktable`` prints.
+KTABLE_MAX_ROWS = 10_000
 
 
 class InputProblem(Exception):
     """A user-facing input problem: printed as one line, exit status 2."""
 
 
-def _temperature(text: str, what: str) -> float:
+class Terminated(BaseException):
+    """SIGTERM arrived: unwinds like Ctrl-C, so every ``finally`` and cleanup runs."""
+
+
+#: The short form of an option, used in the examples of messages.
+_SHORT_FLAGS = {"--temperature": "-T", "--pressure": "-P"}
+
+
+def _is_bare_number(text: str) -> bool:
+    """True for a number without a unit (``"700"``, ``"3e6"``, ``"nan"``)."""
     try:
-        value = to_kelvin(text if any(c.isalpha() for c in text) else float(text))
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def _temperature(text: str, what: str) -> float:
+    """A temperature option in kelvin; the text must carry its unit."""
+    flag = _SHORT_FLAGS.get(what, what)
+    example = f'{flag} "450 degC"'
+    if _is_bare_number(text):
+        raise InputProblem(f"{what}: {text!r} has no unit; give the unit, e.g. {example} or {flag} \"723.15 K\"")
+    try:
+        value = float(to_kelvin(text))
     except (UnitError, ValueError) as exc:
-        raise InputProblem(f"{what}: {exc}; give e.g. '450 degC' or '723.15' (kelvin)") from None
+        raise InputProblem(f"{what}: {exc}; give e.g. {example}") from None
+    if not math.isfinite(value):
+        raise InputProblem(f"{what}: {text!r} is not a finite temperature; give e.g. {example}")
     if value <= 0:
         raise InputProblem(f"{what}: {text!r} is at or below absolute zero")
-    return float(value)
+    return value
 
 
 def _pressure(text: str, what: str) -> float:
+    """A pressure option in pascal; the text must carry its unit."""
+    flag = _SHORT_FLAGS.get(what, what)
+    example = f'{flag} "30 bar"'
+    if _is_bare_number(text):
+        raise InputProblem(f"{what}: {text!r} has no unit; give the unit, e.g. {example} or {flag} \"3 MPa\"")
     try:
-        value = to_pascal(text if any(c.isalpha() for c in text) else float(text))
+        value = float(to_pascal(text))
     except (UnitError, ValueError) as exc:
-        raise InputProblem(f"{what}: {exc}; give e.g. '30 bar' or '3e6' (pascal)") from None
+        raise InputProblem(f"{what}: {exc}; give e.g. {example}") from None
+    if not math.isfinite(value):
+        raise InputProblem(f"{what}: {text!r} is not a finite pressure; give e.g. {example}")
     if value <= 0:
         raise InputProblem(f"{what}: pressure must be positive")
-    return float(value)
+    return value
+
+
+def _row_count(text: str) -> int:
+    """``--points``: a whole number from 2 to :data:`KTABLE_MAX_ROWS`."""
+    try:
+        value = float(text)
+    except ValueError:
+        value = float("nan")
+    if not math.isfinite(value) or value != int(value):
+        raise InputProblem(f"--points: {text!r} is not a whole number; give e.g. --points 8")
+    n = int(value)
+    if n < 2 or n > KTABLE_MAX_ROWS:
+        raise InputProblem(f"--points: {n} is outside 2 to {KTABLE_MAX_ROWS} rows; give e.g. --points 8")
+    return n
 
 
 def cmd_ktable(args) -> int:
@@ -69,11 +126,14 @@ def cmd_ktable(args) -> int:
         rxn = Reaction.parse(args.reaction, db)
     except ReactionError as exc:
         raise InputProblem(str(exc)) from None
+    if not rxn.species:
+        raise InputProblem(f"{args.reaction!r}: every species cancels, so nothing reacts; write a reaction with "
+                           "different species on each side, e.g. 'N2 + 3 H2 = 2 NH3'")
     t_lo = _temperature(args.t_low, "--from")
     t_hi = _temperature(args.t_high, "--to")
     if t_hi < t_lo:
         raise InputProblem("--to must not be below --from")
-    n = max(2, int(args.points))
+    n = _row_count(args.points)
     T = np.linspace(t_lo, t_hi, n)
     lo, hi = rxn.T_range
     with warnings.catch_warnings():
@@ -90,7 +150,8 @@ def cmd_ktable(args) -> int:
     print("-" * len(header))
     for i in range(n):
         flag = " *" if (T[i] < lo - 2.0 or T[i] > hi) else ""
-        print(f"{T[i]:9.2f} {T[i] - 273.15:9.2f} {math.exp(lnK[i]):12.4e} {lnK[i] / math.log(10):9.4f} "
+        print(f"{T[i]:9.2f} {T[i] - 273.15:9.2f} {exponential_text(lnK[i]):>12} "
+              f"{lnK[i] / math.log(10):9.4f} "
               f"{dH[i] / 1000:14.3f} {dS[i]:17.3f} {dG[i] / 1000:14.3f}{flag}")
     if np.any((T < lo - 2.0) | (T > hi)):
         print("* outside the data range of at least one species: extrapolated")
@@ -127,18 +188,33 @@ def cmd_species(args) -> int:
     return 0
 
 
-def _parse_feed(items) -> dict:
+def _parse_feed(items, db) -> dict:
+    """``NAME=AMOUNT`` items as {name: amount [mol]}; a species named twice (also under its
+    common name) is refused."""
     feed = {}
+    seen = {}                                    # database name -> the item that named it
     for item in items:
         if "=" not in item:
             raise InputProblem(f"--feed {item!r}: write NAME=AMOUNT, e.g. N2=1 H2=3")
         name, value = item.split("=", 1)
+        name = name.strip()
         try:
-            feed[name.strip()] = float(value)
+            canonical = db[name].name
+        except (UnknownSpeciesError, KeyError):
+            canonical = name
+        if canonical in seen:
+            raise InputProblem(f"--feed {item!r}: {canonical} is already in the feed as {seen[canonical]!r}; "
+                               "give each species once")
+        seen[canonical] = item
+        try:
+            amount = float(value)
         except ValueError:
             raise InputProblem(f"--feed {item!r}: amount {value!r} is not a number (mol)") from None
-        if feed[name.strip()] < 0:
+        if not math.isfinite(amount):
+            raise InputProblem(f"--feed {item!r}: amount {value!r} is not a finite number (mol)")
+        if amount < 0:
             raise InputProblem(f"--feed {item!r}: amounts must not be negative")
+        feed[name] = amount
     if not feed:
         raise InputProblem("--feed: give at least one NAME=AMOUNT")
     return feed
@@ -146,7 +222,7 @@ def _parse_feed(items) -> dict:
 
 def cmd_point(args) -> int:
     db = bundled_database()
-    feed = _parse_feed(args.feed)
+    feed = _parse_feed(args.feed, db)
     species = list(args.species or [])
     T = _temperature(args.temperature, "--temperature")
     P = _pressure(args.pressure, "--pressure")
@@ -155,8 +231,8 @@ def cmd_point(args) -> int:
             warnings.simplefilter("ignore")
             res = equilibrium(species, feed, T, P, reactions=args.reaction or None,
                               gas_model=args.gas_model, database=db, warn=False)
-    except (EquilibriumInputError, ReactionError, UnknownSpeciesError) as exc:
-        raise InputProblem(str(exc)) from None
+    except (EquilibriumInputError, ReactionError, UnknownSpeciesError, ValueError) as exc:
+        raise InputProblem(str(exc)) from None      # input errors subclass ValueError (Peng-Robinson data too)
     payload = {
         "T_K": T, "P_Pa": P, "gas_model": args.gas_model, "converged": bool(res.converged),
         "iterations": int(res.iterations), "max_residual": float(res.max_residual),
@@ -165,9 +241,13 @@ def cmd_point(args) -> int:
     }
     if res.reactions:
         payload["extents_mol"] = res.extents
-        payload["Q_over_K"] = res.quotient_over_K()
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")              # Q/K undefined (NaN) when no reactant is present
+            payload["Q_over_K"] = res.quotient_over_K()
     if args.json:
-        json.dump(payload, sys.stdout, indent=2)
+        payload["status"] = "converged" if res.all_converged else "not converged"
+        payload["missing_values"] = "null: not defined or not computed (for example Q/K with no reactant present)"
+        json.dump(_strict_json(payload), sys.stdout, indent=2, allow_nan=False)
         print()
         return 0 if res.all_converged else 1
     status = "converged" if res.all_converged else "NOT CONVERGED"
@@ -178,6 +258,19 @@ def cmd_point(args) -> int:
     for name, n in res.amounts.items():
         print(f"{name:16} {n:14.6e} {y[name]:22.6e}" if name in y else f"{name:16} {n:14.6e} {'(condensed)':>22}")
     return 0 if res.all_converged else 1
+
+
+def _strict_json(value):
+    """``value`` with every float made strict JSON (NaN as null, infinities as "+inf"/"-inf")."""
+    if isinstance(value, dict):
+        return {k: _strict_json(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_strict_json(v) for v in value]
+    if isinstance(value, (float, np.floating)):
+        return json_number(value)
+    if isinstance(value, np.integer):
+        return int(value)
+    return value
 
 
 class ProgressBar:
@@ -245,23 +338,26 @@ def default_output_folder(case_path: str) -> Path:
 
 
 def cmd_run(args) -> int:
-    case = _load_case(args.case)
     outdir = Path(args.output) if args.output else default_output_folder(args.case)
+    protected = (Path(args.case).absolute().parent,)
     try:
-        check_output_folder(outdir, args.force)
-    except OutputExistsError as exc:
+        check_output_folder(outdir, args.force, protected=protected)       # before anything is computed
+    except (OutputExistsError, OutputPathError) as exc:
         raise InputProblem(str(exc)) from None
+    case = _load_case(args.case)
     bar = ProgressBar(sys.stderr, enabled=not args.quiet)
-    if not args.quiet:
-        print(f"eqdesign run: {case.file}: {case.title}" + (" (reduced resolution)" if args.coarse else ""),
-              file=sys.stderr)
     try:
-        result = run_case(case, coarse=args.coarse, progress=bar, status=bar.status)
-    except (EquilibriumInputError, ReactionError, UnitError) as exc:
-        raise InputProblem(f"{case.file}: {exc} (the case check did not catch this; please report it)") from None
-    try:
-        written = write_outputs(result, outdir, force=args.force)
-    except OutputExistsError as exc:
+        with OutputFolder(outdir, force=args.force, protected=protected) as folder:
+            if not args.quiet:
+                print(f"eqdesign run: {case.file}: {case.title}" + (" (reduced resolution)" if args.coarse else ""),
+                      file=sys.stderr)
+            try:
+                result = run_case(case, coarse=args.coarse, progress=bar, status=bar.status)
+            except (EquilibriumInputError, ReactionError, UnitError) as exc:
+                raise InputProblem(f"{case.file}: {exc} (the case check did not catch this; please report "
+                                   "it)") from None
+            written = folder.publish(output_files(result))
+    except (OutputExistsError, OutputPathError) as exc:
         raise InputProblem(str(exc)) from None
     print(f"Results of {case.file} in {outdir}/ ({len(written)} files, {result.elapsed:.1f} s)")
     if case.output.report:
@@ -277,8 +373,15 @@ def cmd_run(args) -> int:
     return 0
 
 
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line (and exit status 2)."""
+
+    def error(self, message: str):
+        self.exit(EXIT_INPUT, f"{self.prog}: {message}; see '{self.prog} --help'\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="eqdesign",
         description="Chemical-equilibrium design from thermodynamic data: K(T), equilibrium "
                     "compositions, conversion maps. Results support, and do not replace, "
@@ -288,7 +391,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("reaction", help="e.g. 'N2 + 3 H2 = 2 NH3'")
     p.add_argument("--from", dest="t_low", default="300 K", help="lowest temperature (default 300 K)")
     p.add_argument("--to", dest="t_high", default="1000 K", help="highest temperature (default 1000 K)")
-    p.add_argument("--points", default=8, type=int, help="number of rows (default 8)")
+    p.add_argument("--points", default="8", help=f"number of rows, 2 to {KTABLE_MAX_ROWS} (default 8)")
     p.set_defaults(func=cmd_ktable)
     p = sub.add_parser("species", help="data, valid range and source of a species")
     p.add_argument("name", nargs="?", help="species name or common name, e.g. NH3 or ammonia")
@@ -298,8 +401,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--feed", nargs="+", required=True, metavar="NAME=MOL", help="feed, e.g. N2=1 H2=3")
     p.add_argument("--species", nargs="*", help="further species that may form (all-species mode)")
     p.add_argument("--reaction", action="append", help="restrict to this reaction (repeatable)")
-    p.add_argument("--temperature", "-T", required=True, help="e.g. '450 degC'")
-    p.add_argument("--pressure", "-P", required=True, help="e.g. '200 bar'")
+    p.add_argument("--temperature", "-T", required=True, help="with its unit, e.g. '450 degC'")
+    p.add_argument("--pressure", "-P", required=True, help="with its unit, e.g. '200 bar'")
     p.add_argument("--gas-model", default="ideal", choices=["ideal", "peng-robinson"])
     p.add_argument("--json", action="store_true", help="machine-readable output")
     p.set_defaults(func=cmd_point)
@@ -323,14 +426,33 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _raise_terminated(signum, frame):
+    raise Terminated()
+
+
 def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "func", None):
         parser.print_help()
         return EXIT_INPUT
+    in_main_thread = threading.current_thread() is threading.main_thread()
+    previous = signal.signal(signal.SIGTERM, _raise_terminated) if in_main_thread else None
+    try:
+        return _dispatch(args)
+    finally:
+        if in_main_thread:
+            signal.signal(signal.SIGTERM, previous)
+
+
+def _dispatch(args) -> int:
+    """Run the subcommand; turn input problems, interruptions and a closed pipe into an
+    exit status and a message (no traceback)."""
     try:
         return args.func(args)
+    except BrokenPipeError:
+        _silence_stdout()
+        return EXIT_BROKEN_PIPE
     except InputProblem as exc:
         print(f"eqdesign {args.command}: {exc}", file=sys.stderr)
         return EXIT_INPUT
@@ -346,7 +468,19 @@ def main(argv=None) -> int:
         return EXIT_INPUT
     except KeyboardInterrupt:
         print(f"eqdesign {args.command}: interrupted; no output folder was written", file=sys.stderr)
-        return 130
+        return EXIT_INTERRUPTED
+    except Terminated:
+        print(f"eqdesign {args.command}: terminated (SIGTERM); no output folder was written", file=sys.stderr)
+        return EXIT_TERMINATED
+
+
+def _silence_stdout() -> None:
+    """After a broken pipe: point stdout at /dev/null so the interpreter's final flush is quiet."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):       # stdout without a file descriptor (captured)
+        pass
 
 
 if __name__ == "__main__":  # pragma: no cover

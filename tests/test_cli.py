@@ -66,7 +66,7 @@ def test_demo_case_runs_end_to_end(name, demo_runs):
                      "solver_diagnostics.csv", "conversion_by_temperature.csv", "conversion_vs_temperature.png",
                      "conversion_vs_temperature.svg", "outlet_composition.png"] + DEMOS[name]:
         assert expected in names, (name, expected)
-    assert not [n for n in names if n.startswith(".")]
+    assert [n for n in names if n.startswith(".")] == [".eqdesign-output"]     # the marker, no temporaries
     summary = json.loads((folder / "run_summary.json").read_text())
     assert summary["reduced_resolution"] is True and summary["points_flagged"] == 0
     # a value of the conversion table agrees with a direct call of the solver
@@ -160,6 +160,7 @@ def test_force_replaces_the_folder(small_case, tmp_path, capsys):
     out = tmp_path / "out"
     out.mkdir()
     (out / "keep.txt").write_text("earlier results")
+    (out / ".eqdesign-output").write_text("an earlier eqdesign output folder")
     assert cli.main(["run", str(small_case), "-o", str(out), "-q", "--force"]) == 0
     names = {p.name for p in out.iterdir()}
     assert "keep.txt" not in names and "report.html" in names
@@ -213,11 +214,12 @@ def test_failure_mid_write_with_force_keeps_the_old_folder(small_case, tmp_path,
     out = tmp_path / "out"
     out.mkdir()
     (out / "keep.txt").write_text("earlier results")
+    (out / ".eqdesign-output").write_text("an earlier eqdesign output folder")
     monkeypatch.setattr(runner, "write_atomic", _fail_after(2, runner.write_atomic))
     with pytest.raises(OSError, match="simulated"):
         cli.main(["run", str(small_case), "-o", str(out), "-q", "--force"])
     assert sorted(p.name for p in tmp_path.iterdir()) == ["out", "small.yaml"]
-    assert [p.name for p in out.iterdir()] == ["keep.txt"]
+    assert sorted(p.name for p in out.iterdir()) == [".eqdesign-output", "keep.txt"]
 
 
 def test_interrupted_run_writes_nothing(small_case, tmp_path, monkeypatch, capsys):

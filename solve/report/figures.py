@@ -14,14 +14,13 @@ from typing import Iterable, Sequence
 import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
-from .uncertainty_figures import draw_band
-from .uncertainty_figures import draw_temperature_interval
+from .numbers import ZERO_CELSIUS, celsius
+from .uncertainty_figures import draw_band, draw_temperature_interval
 
 #: Slide size [in].
 FIGSIZE = (10.0, 5.6)
 #: Resolution of the PNG files [dots per inch].
 PNG_DPI = 150
-ZERO_CELSIUS = 273.15
 
 #: Series styles: colour, line style, marker.  Colours are distinct in hue and in
 #: lightness; line styles and markers carry the distinction in greyscale.
@@ -53,10 +52,6 @@ def _figure(title: str) -> tuple[Figure, object]:
 
 def _markevery(n: int) -> int:
     return max(1, n // 12)
-
-
-def _celsius(T_K) -> np.ndarray:
-    return np.asarray(T_K, dtype=float) - ZERO_CELSIUS
 
 
 def render(fig: Figure, fmt: str, dpi: int = PNG_DPI) -> bytes:
@@ -104,7 +99,7 @@ def conversion_vs_temperature(T: np.ndarray, curves: Sequence[tuple[str, np.ndar
         numbers in greyscale).
     """
     fig, ax = _figure(title or f"Equilibrium conversion of {key} against temperature")
-    x = _celsius(T)
+    x = celsius(T)
     for i, band in enumerate(bands):
         draw_band(ax, band, label=f"data uncertainty: {band.label}" if i == 0 else "_nolegend_",
                   nominal_label=None, percent=True, celsius=True, alpha=0.4, edge="0.5")
@@ -183,7 +178,7 @@ def composition_vs_temperature(T: np.ndarray, fractions: Sequence[tuple[str, np.
         Logarithmic mole-fraction axis (for trace species).
     """
     fig, ax = _figure(title or f"Equilibrium outlet composition at {pressure / 1e5:.4g} bar")
-    x = _celsius(T)
+    x = celsius(T)
     for i, (name, y) in enumerate(fractions):
         ax.plot(x, y, label=name, markevery=_markevery(x.size), **series_style(i))
     if log_scale:
@@ -251,10 +246,10 @@ def conversion_temperature_diagram(curves: Sequence[tuple[str, np.ndarray, np.nd
 def _draw_beds(ax, curves, bed_lines, cooling_lines, target) -> None:
     eq_styles = ("-", (0, (7, 2)), (0, (3, 1, 1, 1)))
     for i, (label, T, x) in enumerate(curves):
-        ax.plot(_celsius(T), 100.0 * np.asarray(x, dtype=float), color="black", linewidth=2.2,
+        ax.plot(celsius(T), 100.0 * np.asarray(x, dtype=float), color="black", linewidth=2.2,
                 linestyle=eq_styles[i % len(eq_styles)], label=f"equilibrium, {label}")
     for i, (T, x) in enumerate(bed_lines):
-        T_b = _celsius(T)
+        T_b = celsius(T)
         x_b = 100.0 * np.asarray(x, dtype=float)
         ax.plot(T_b, x_b, label=f"bed {i + 1}, adiabatic", markevery=[0, len(T_b) - 1] if len(T_b) > 1 else None,
                 **series_style(i + 1))
@@ -262,7 +257,7 @@ def _draw_beds(ax, curves, bed_lines, cooling_lines, target) -> None:
             ax.annotate(f"bed {i + 1}", (T_b[-1], x_b[-1]), textcoords="offset points", xytext=(6, -4),
                         fontsize=9, annotation_clip=True)
     for i, (T, x) in enumerate(cooling_lines):
-        ax.plot(_celsius(T), 100.0 * np.asarray(x, dtype=float), color="#6f6f6f", linewidth=1.3,
+        ax.plot(celsius(T), 100.0 * np.asarray(x, dtype=float), color="#6f6f6f", linewidth=1.3,
                 linestyle=(0, (1.5, 1.5)), label="interstage cooling" if i == 0 else None)
     if target is not None:
         ax.axhline(100.0 * target, color="black", linewidth=1.0, linestyle=(0, (4, 3)),
@@ -314,7 +309,7 @@ def carbon_limit_map(T: np.ndarray, ratio: np.ndarray, carbon_forms: np.ndarray,
         Pressure [Pa] (title).
     """
     fig, ax = _figure(title or ("Carbon limit" + (f" at {pressure / 1e5:.4g} bar" if pressure else "")))
-    x = _celsius(T)
+    x = celsius(T)
     r = np.asarray(ratio, dtype=float)
     forms = np.asarray(carbon_forms, dtype=bool)
     X, Y = np.meshgrid(x, r, indexing="ij")

@@ -13,14 +13,11 @@ import html
 import math
 from importlib import metadata
 
-import numpy as np
-
-from ..studies.uncertainty import ASSUMPTIONS, CAUTION
-
-from . import figures as plots
 from ..casefile.schema import LAYOUT_ID
+from ..studies.uncertainty import ASSUMPTIONS, CAUTION
+from . import figures as plots
+from .numbers import ZERO_CELSIUS, format_cell, search_end_text, temperature_text_precise
 
-ZERO_CELSIUS = 273.15
 #: Resolution of the figures embedded in the report [dots per inch].
 REPORT_DPI = 100
 
@@ -78,31 +75,6 @@ def _version() -> str:
         return "unknown"
 
 
-def format_cell(v) -> str:
-    """A table value as report text: 4-6 significant figures, '–' for missing.
-
-    >>> format_cell(0.2512345), format_cell(float("nan")), format_cell(2.5e-7)
-    ('0.25123', '–', '2.5000e-07')
-    """
-    if isinstance(v, (bool, np.bool_)):
-        return "yes" if v else "no"
-    if isinstance(v, (int, np.integer)):
-        return str(int(v))
-    if isinstance(v, (float, np.floating)):
-        v = float(v)
-        if not math.isfinite(v):
-            return "–"
-        if v == 0:
-            return "0"
-        a = abs(v)
-        if a >= 1e5 or a < 1e-3:
-            return f"{v:.4e}"
-        if a >= 100:
-            return f"{v:.2f}"
-        return f"{v:.5g}"
-    return str(v)
-
-
 def _table_html(columns, rows, *, every: int = 1, css: str = "") -> str:
     out = ['<div class="wide">', f'<table class="{css}">' if css else "<table>", "<thead><tr>"]
     text_cols = set()
@@ -139,10 +111,6 @@ def _img(fig, png: bytes | None = None) -> str:
     return f'<img alt="figure" src="data:image/png;base64,{data}">'
 
 
-def _degc(T: float) -> str:
-    return f"{T - ZERO_CELSIUS:.6g} degC ({T:.6g} K)"
-
-
 def _inputs(case) -> str:
     s = case.studies
     parts = ["<h2>Inputs</h2>"]
@@ -154,7 +122,7 @@ def _inputs(case) -> str:
          "all species may form (element balances)"),
         ("gas model", case.gas_model),
         ("approach margin", f"{case.approach:g} K"),
-        ("temperature window", f"{_degc(case.temperature.low)} to {_degc(case.temperature.high)}, "
+        ("temperature window", f"{temperature_text_precise(case.temperature.low)} to {temperature_text_precise(case.temperature.high)}, "
                                f"{case.temperature.points} points"),
         ("pressure options", ", ".join(f"{p / 1e5:g} bar" for p in case.pressures)),
     ]
@@ -183,16 +151,16 @@ def _inputs(case) -> str:
         if q.pressure:
             fixed.append(f"{q.pressure / 1e5:g} bar")
         if q.temperature:
-            fixed.append(_degc(q.temperature))
+            fixed.append(temperature_text_precise(q.temperature))
         rows.append([f"target: {q.label}", f"solve for {q.solve_for} giving {100 * q.conversion:g} % conversion"
                      + (f" at {', '.join(fixed)}" if fixed else " at each pressure option")])
     if s.pressure_options:
         po = s.pressure_options
-        rows.append(["pressure options", "at " + ", ".join(_degc(t) for t in po.temperatures) + "; gas models "
+        rows.append(["pressure options", "at " + ", ".join(temperature_text_precise(t) for t in po.temperatures) + "; gas models "
                      + ", ".join(po.gas_models)])
     if s.staged_beds:
         b = s.staged_beds
-        rows.append(["staged beds", "inlet " + ", ".join(_degc(t) for t in b.inlet_temperatures)
+        rows.append(["staged beds", "inlet " + ", ".join(temperature_text_precise(t) for t in b.inlet_temperatures)
                      + f" at {b.pressure / 1e5:g} bar; "
                      + (f"{b.beds} beds" if b.beds else "as many beds as needed")
                      + (f"; target {100 * b.target:g} %" if b.target else "")
@@ -208,7 +176,7 @@ def _inputs(case) -> str:
     if s.carbon_limit:
         cl = s.carbon_limit
         rows.append(["carbon limit", f"{cl.feed_ratio.label} " + ", ".join(f"{v:g}" for v in cl.feed_ratio.values)
-                     + f" at {cl.pressure / 1e5:g} bar, {_degc(cl.temperature.low)} to {_degc(cl.temperature.high)}"])
+                     + f" at {cl.pressure / 1e5:g} bar, {temperature_text_precise(cl.temperature.low)} to {temperature_text_precise(cl.temperature.high)}"])
     parts.append(_table_html(["study", "settings"], rows))
     if case.user_species:
         parts.append("<h3>Species data supplied in the case file</h3>")
@@ -260,12 +228,7 @@ def _result_table(t, case, heading: str = "h3") -> str:
     return "".join(out)
 
 
-def _end(x: float) -> str:
-    if math.isinf(x):
-        return "beyond the search range" if x > 0 else "below the search range"
-    return f"{x - ZERO_CELSIUS:.1f} degC" if math.isfinite(x) else "–"
-
-
+# Long on purpose: the section is written top to bottom in reading order (issue 12 restyles it).
 def _uncertainty_section(result) -> str:
     """The data-uncertainty section: method, draws, seed, coverage, assumptions, the
     design temperatures with their intervals, the sensitivity rankings, the band, the
@@ -311,7 +274,7 @@ def _uncertainty_section(result) -> str:
                          "met over all of it, so the data fix no interval; widen the search range.</li>")
                 continue
             text = (f"<b>{e['T'] - ZERO_CELSIUS:.1f} degC</b> ({e['T']:.1f} K); {u.level_text} interval "
-                    f"<b>{_end(e['lower'])} to {_end(e['upper'])}</b>"
+                    f"<b>{search_end_text(e['lower'])} to {search_end_text(e['upper'])}</b>"
                     + (f", u(T) = {e['u']:.2f} K" if math.isfinite(e["u"]) else ""))
             if e["beyond"] > 0:
                 text += (f". {100 * e['beyond']:.3g} % of the draws reach the target only beyond the search range; "
@@ -319,10 +282,10 @@ def _uncertainty_section(result) -> str:
             odds = (f"in at least {hi_pct:.3g} % of the data draws" if u.method == "monte-carlo" else
                     f"with a one-sided probability of {hi_pct:.3g} % (linearised, normal)")
             if e["falls"] is True and math.isfinite(e["lower"]):
-                text += (f". Conversion falls with temperature here: at or below {_end(e['lower'])} the target is "
+                text += (f". Conversion falls with temperature here: at or below {search_end_text(e['lower'])} the target is "
                          f"reached {odds}")
             elif e["falls"] is False and math.isfinite(e["upper"]):
-                text += (f". Conversion rises with temperature here: at or above {_end(e['upper'])} the target is "
+                text += (f". Conversion rises with temperature here: at or above {search_end_text(e['upper'])} the target is "
                          f"reached {odds}")
             h.append(f"<li>{head}{text}.</li>")
         h.append("</ul>")
@@ -359,8 +322,9 @@ def _uncertainty_section(result) -> str:
     return "".join(h)
 
 
+# Long on purpose: one pass over the report sections in the order a reader meets them.
 def build_report(result, images: dict | None = None) -> str:
-    """The report of a :class:`eqdesign.solve.report.run.RunResult` as one HTML document.
+    """The report of a :class:`eqdesign.solve.report.records.RunResult` as one HTML document.
 
     ``images`` maps figure names to PNG bytes already rendered (they are embedded as
     they are); other figures are rendered here at ``REPORT_DPI``.

@@ -10,8 +10,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-#: 0 °C in kelvin.
-ZERO_CELSIUS = 273.15
+from .numbers import ZERO_CELSIUS
 
 if TYPE_CHECKING:     # pragma: no cover
     from matplotlib.axes import Axes

@@ -3,32 +3,18 @@
 from __future__ import annotations
 
 import html
-import math
 from typing import Mapping, Sequence
 
 import numpy as np
 
-from ..studies.uncertainty import ASSUMPTIONS
-from ..studies.uncertainty import CAUTION
-from ..studies.uncertainty import EquilibriumUncertainty
+from ...thermo.data_uncertainty import UncertaintyDefaults, UncertaintyInputError, bundled_defaults
 from ..studies.intervals import TemperatureUncertainty
-from ...thermo.data_uncertainty import UncertaintyDefaults
-from ...thermo.data_uncertainty import UncertaintyInputError
-from ...thermo.data_uncertainty import bundled_defaults
-from ..studies.uncertainty import percent_labels
+from ..studies.uncertainty import ASSUMPTIONS, CAUTION, EquilibriumUncertainty, percent_labels
+from .numbers import html_number
 
 
 def _h(x) -> str:
     return html.escape(str(x), quote=True)
-
-
-def _num_cell(x, fmt: str) -> str:
-    x = float(x)
-    if math.isnan(x):
-        return "&ndash;"
-    if math.isinf(x):
-        return "beyond range" if x > 0 else "below range"
-    return format(x, fmt)
 
 
 def _table(headers: Sequence[str], rows: Sequence[Sequence[str]], caption: str = "", text_cols=()) -> str:
@@ -46,6 +32,7 @@ def _table(headers: Sequence[str], rows: Sequence[Sequence[str]], caption: str =
     return "\n".join(out)
 
 
+# Long on purpose: half of it is the docstring; the rest writes the section top to bottom.
 def html_section(*, temperatures: Sequence[TemperatureUncertainty] = (),
                  equilibrium_result: EquilibriumUncertainty | None = None, figure_svg: str | None = None,
                  title: str = "Uncertainty from the thermodynamic data", top: int = 5,
@@ -97,10 +84,10 @@ def html_section(*, temperatures: Sequence[TemperatureUncertainty] = (),
         lo, hi = percent_labels(t.level)
         rows = []
         for r in t.rows():
-            rows.append([_num_cell(100 * r[f"target conversion {t.key} [-]"], ".4g"),
-                         _num_cell(r["P [Pa]"] / 1e5, ".4g"), _num_cell(r["T [K]"], ".1f"),
-                         _num_cell(r[f"T {lo} [K]"], ".1f"), _num_cell(r[f"T {hi} [K]"], ".1f"),
-                         _num_cell(r["u(T) [K]"], ".2f")])
+            rows.append([html_number(100 * r[f"target conversion {t.key} [-]"], ".4g"),
+                         html_number(r["P [Pa]"] / 1e5, ".4g"), html_number(r["T [K]"], ".1f"),
+                         html_number(r[f"T {lo} [K]"], ".1f"), html_number(r[f"T {hi} [K]"], ".1f"),
+                         html_number(r["u(T) [K]"], ".2f")])
         parts.append(_table([f"target conversion {t.key} [%]", "P [bar]", "T [K]", f"T {lo} [K]",
                              f"T {hi} [K]", "u(T) [K]"], rows,
                             caption=f"Temperature for the target conversion of {t.key}"
@@ -119,14 +106,14 @@ def html_section(*, temperatures: Sequence[TemperatureUncertainty] = (),
         flat = {k: np.asarray(v, dtype=float).reshape(-1) for k, v in e.columns(q).items()}
         Pf = np.broadcast_to(np.asarray(e.P, dtype=float), np.shape(e.T)).reshape(-1)
         for i in pick:
-            rows.append([_num_cell(T[i], ".1f"), _num_cell(Pf[i] / 1e5, ".4g")]
-                        + [_num_cell(v[i], ".4f") for v in flat.values()])
+            rows.append([html_number(T[i], ".1f"), html_number(Pf[i] / 1e5, ".4g")]
+                        + [html_number(v[i], ".4f") for v in flat.values()])
         parts.append(_table(["T [K]", "P [bar]"] + list(flat), rows, caption=f"{q} with its interval"))
         parts.append(_ranking_html(e.ranking(q)[:top], "-", f"Data that move {q} most (averaged over the band)"))
     if figure_svg:
         parts.append(f'<figure class="eqd-uncertainty-band">{_inline_svg(figure_svg)}</figure>')
     data = first.data
-    rows = [[_h(d.label), _num_cell(d.u, ".4g"), _h(d.unit), _h(d.origin)] for d in data]
+    rows = [[_h(d.label), html_number(d.u, ".4g"), _h(d.unit), _h(d.origin)] for d in data]
     parts.append(_table(["datum", "standard uncertainty u", "unit", "source of u"], rows,
                         caption="Standard uncertainties used", text_cols=(0, 2, 3)))
     defaults = defaults or bundled_defaults()
@@ -159,7 +146,7 @@ def _inline_svg(svg: str) -> str:
 
 
 def _ranking_html(ranking, unit: str, caption: str) -> str:
-    rows = [[str(e.rank), _h(e.datum.label), _num_cell(e.datum.u, ".4g") + " " + _h(e.datum.unit),
-             _num_cell(e.contribution, ".3g"), _num_cell(100 * e.share, ".1f")] for e in ranking]
+    rows = [[str(e.rank), _h(e.datum.label), html_number(e.datum.u, ".4g") + " " + _h(e.datum.unit),
+             html_number(e.contribution, ".3g"), html_number(100 * e.share, ".1f")] for e in ranking]
     return _table(["rank", "datum", "u", f"contribution [{unit}]", "share of variance [%]"], rows, caption,
                   text_cols=(1,))

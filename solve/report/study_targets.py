@@ -1,0 +1,75 @@
+"""The target questions of a run: the temperature, pressure or feed ratio that gives a
+target conversion, as a table and one finding per answer.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from ..studies.inverse import feed_ratio_for_conversion, pressure_for_conversion, temperature_for_conversion
+from .context import RunContext, api_ratio
+from .numbers import ZERO_CELSIUS, celsius, temperature_text
+from .records import Table
+
+
+def run_targets(run: RunContext) -> None:
+    """Answer each target question (temperature, pressure or feed ratio for a target conversion):
+    the targets table, one finding per answer, the design points of the conversion figure."""
+    c = run.case
+    kw = run.common()
+    rows = []
+    with run.study("target questions"):
+        for qi, q in enumerate(c.studies.targets):
+            if q.solve_for == "temperature":
+                Ps = [q.pressure] if q.pressure else list(c.pressures)
+                ans = temperature_for_conversion(list(c.species), c.feed, np.array(Ps), c.key, q.conversion,
+                                                 T_range=q.search, **kw)
+                run.temperature_answers[qi] = (Ps, ans)
+                Ts, reached = np.atleast_1d(ans.T), np.atleast_1d(ans.reached)
+                msgs = np.atleast_1d(ans.message)
+                xs = np.atleast_1d(ans.conversion_at_T)
+                best = np.atleast_1d(ans.best_conversion)
+                for i, P in enumerate(Ps):
+                    run.target_rows.append((qi, i))
+                    rows.append([q.label, "temperature", f"{P / 1e5:g} bar", 100 * q.conversion,
+                                 float(celsius(Ts[i])) if reached[i] else float("nan"), "degC", bool(reached[i]),
+                                 100 * float(best[i]), str(msgs[i])])
+                    if reached[i]:
+                        run.design_points.append((f"{Ts[i] - ZERO_CELSIUS:.0f} °C ({P / 1e5:g} bar)",
+                                                   float(Ts[i]), float(xs[i])))
+                        run.design_keys.append((qi, i))
+                        run.rec.temperatures(np.atleast_1d(ans.T_equilibrium)[i])
+                    head = (f"{q.label} at {P / 1e5:g} bar: {temperature_text(float(Ts[i]))}. " if reached[i] else
+                            f"{q.label} at {P / 1e5:g} bar: not reached. ")
+                    run.findings.append(head + str(msgs[i]) + ".")
+                run.target_line = q.conversion if run.target_line is None else run.target_line
+            elif q.solve_for == "pressure":
+                ans = pressure_for_conversion(list(c.species), c.feed, q.temperature, c.key, q.conversion,
+                                              P_range=q.search, **kw)
+                reached = bool(ans.reached)
+                run.rec.temperatures([q.temperature])
+                run.target_rows.append((qi, None))
+                rows.append([q.label, "pressure", f"{q.temperature - ZERO_CELSIUS:g} degC", 100 * q.conversion,
+                             float(ans.P) / 1e5 if reached else float("nan"), "bar", reached,
+                             100 * float(ans.best_conversion), str(ans.message)])
+                head = f"{q.label}: {float(ans.P) / 1e5:.4g} bar. " if reached else f"{q.label}: not reached. "
+                run.findings.append(head + f"{ans.message}.")
+            else:
+                P = q.pressure or c.pressures[0]
+                lo, hi = q.search
+                ans = feed_ratio_for_conversion(list(c.species), c.feed, q.temperature, P, c.key, q.conversion,
+                                                ratio=api_ratio(q.feed_ratio), ratio_range=(lo, hi), **kw)
+                reached = bool(ans.reached)
+                run.rec.temperatures([q.temperature])
+                run.target_rows.append((qi, None))
+                rows.append([q.label, q.feed_ratio.label,
+                             f"{q.temperature - ZERO_CELSIUS:g} degC, {P / 1e5:g} bar", 100 * q.conversion,
+                             float(ans.ratio) if reached else float("nan"), "mol/mol", reached,
+                             100 * float(ans.best_conversion), str(ans.message)])
+                head = (f"{q.label}: {q.feed_ratio.label} {float(ans.ratio):.4g}. " if reached else
+                        f"{q.label}: not reached. ")
+                run.findings.append(head + f"{ans.message}.")
+    cols = ["question", "solve for", "fixed condition", f"target conversion {c.key} [%]", "answer [value]",
+            "answer unit", "reached [-]", "best conversion in range [%]", "message"]
+    run.add_table(Table("targets", "Target questions", cols, rows,
+                         note="The answer is the operating value; with an approach margin the equilibrium "
+                              "is taken that many kelvin on the side that lowers conversion."))
