@@ -3,8 +3,8 @@
 
 Run from anywhere::
 
-    python data/build_species.py            # writes data/species.yaml beside this script
-    python data/build_species.py --check    # exit 1 if the file on disk differs
+    python data/build_species.py            # writes data/species.yaml and species.json beside it
+    python data/build_species.py --check    # exit 1 if a file on disk differs
 
 Inputs (read locally, no network):
 
@@ -46,6 +46,7 @@ REF_NASA = "TM4513"
 REF_ATOMIC_WEIGHTS = "IUPAC2021"
 REF_CRIT_FILE = "CANTERA_CRITPROPS"
 REF_POLING = "POLING2001"
+REF_WUSTITE = "FEO_RANGE"
 
 REFERENCES = {
     REF_NASA: {
@@ -69,8 +70,10 @@ REFERENCES = {
         ),
         "note": (
             "Abridged/conventional values are used where the standard atomic weight is "
-            "an interval (H, C, N, O, Mg, Si, S, Cl, Ar). The values were recalled from "
-            "memory and checked equal to the element table built into cantera 3.2."
+            "an interval (H, Li, B, C, N, O, Mg, Si, S, Cl, Ar, Br). The values were "
+            "recalled from memory and checked equal to the element table built into "
+            "cantera 3.2. D (deuterium) is the atomic mass of 2H from the CODATA 2018 "
+            "recommended values (from memory)."
         ),
     },
     REF_CRIT_FILE: {
@@ -101,7 +104,25 @@ REFERENCES = {
             "critical temperature (styrene) and pressure (2-propanol)."
         ),
     },
+    REF_WUSTITE: {
+        "cite": (
+            "M. W. Chase Jr., NIST-JANAF Thermochemical Tables, 4th ed., J. Phys. Chem. "
+            "Ref. Data, Monograph 9 (1998), which tabulates wustite as Fe0.947O(s); "
+            "L. S. Darken, R. W. Gurry, The System Iron-Oxygen. I. The Wustite Field and "
+            "Related Equilibria, J. Am. Chem. Soc. 67, 1398 (1945) (citation from memory)"
+        ),
+        "note": (
+            "Wustite is unstable below the Fe-FeO-Fe3O4 eutectoid, about 570 degC (843 K; "
+            "value from memory, as shown on any Fe-O phase diagram). The TM-4513 FeO(s) "
+            "record is stoichiometric FeO, not Fe0.947O, and with it wustite would appear "
+            "stable down to about 450 K. No Fe0.947O record is bundled with cantera, so "
+            "the FeO(s) polynomial is kept but its lower bound is raised to 843 K."
+        ),
+    },
 }
+
+# Lower bounds raised above the NASA record's own: our name -> (T_min [K], reference key).
+RANGE_LIMITS = {"FeO(s)": (843.0, REF_WUSTITE)}
 
 # IUPAC 2021 standard atomic weights [g/mol]; conventional values for interval
 # elements. Kept as strings so that molar masses are summed exactly.
@@ -125,6 +146,29 @@ ATOMIC_WEIGHTS = {
     "Cu": "63.546",
     "Kr": "83.798",
     "Xe": "131.293",
+    # elements of the species taken over without a curated row (see AUTO below)
+    "D": "2.01410177812",
+    "Li": "6.94",
+    "Be": "9.0121831",
+    "B": "10.81",
+    "F": "18.998403162",
+    "P": "30.973761998",
+    "K": "39.0983",
+    "Ti": "47.867",
+    "V": "50.9415",
+    "Cr": "51.9961",
+    "Zn": "65.38",
+    "Br": "79.904",
+    "Sr": "87.62",
+    "Zr": "91.224",
+    "Nb": "92.90637",
+    "Mo": "95.95",
+    "I": "126.90447",
+    "Cs": "132.90545196",
+    "Ba": "137.327",
+    "Ta": "180.94788",
+    "Hg": "200.592",
+    "Pb": "207.2",
 }
 
 
@@ -256,7 +300,7 @@ GAS_SPECIES = [
     ("O", "O", "O", "atomic oxygen", [], None),
     ("OH", "OH", "OH", "hydroxyl radical", [], None),
     ("HO2", "HO2", "HO2", "hydroperoxyl radical", [], None),
-    ("C", "C", "C", "atomic carbon (gas)", [], None),
+    ("C(g)", "C", "C", "atomic carbon (gas)", ["carbon vapour", "carbon vapor"], None),
     ("C2", "C2", "C2", "diatomic carbon", [], None),
     ("CH", "CH", "CH", "methylidyne radical", [], None),
     ("CH2", "CH2", "CH2", "methylene radical", [], None),
@@ -311,7 +355,7 @@ GAS_SPECIES = [
     ("S8", "S8", "S8", "octasulfur", ["octasulfur"], None),
     ("SO", "SO", "SO", "sulfur monoxide", ["sulfur monoxide"], None),
     ("S2O", "S2O", "S2O", "disulfur monoxide", ["disulfur monoxide"], None),
-    ("S", "S", "S", "atomic sulfur (gas)", [], None),
+    ("S(g)", "S", "S", "atomic sulfur (gas)", ["sulfur vapour", "sulfur vapor"], None),
     ("SH", "SH", "SH", "sulfanyl radical", [], None),
     # --- Cl ---
     ("HCl", "HCL", "HCl", "hydrogen chloride", ["hydrogen chloride"],
@@ -375,10 +419,23 @@ CONDENSED_SPECIES = [
     ("C7H8(l)", "C7H8(L)", "C7H8", "liquid", "liquid toluene", ["liquid toluene"]),
     ("H2SO4(l)", "H2SO4(L)", "H2SO4", "liquid", "sulfuric acid (liquid)",
      ["sulfuric acid"]),
+    ("n-C8H18(l)", "C8H18(L),n-octa", "C8H18", "liquid", "liquid n-octane",
+     ["liquid n-octane"]),
 ]
 
+# Every other NASA record is taken over too (see auto_entries), except charged species
+# (eqdesign has no electron element and no plasma chemistry) and the records below, whose
+# enthalpy jumps at an internal range bound (a check every record written must pass).
+LEFT_OUT = {
+    "Li2O(s)": "h jumps by 335 J/mol at the 1000 K range bound",
+    "ZnSO4(a)": "h jumps by 5.0 kJ/mol at the 540 K range bound",
+}
+MAX_JUMP_RT = 1e-3          # largest h step allowed at an internal range bound: 1e-3 RT + 5 J/mol
+MAX_JUMP_J = 5.0
+
 PERMANENT_GASES = {"H2", "N2", "O2", "Ar", "He", "Ne", "Kr", "Xe"}
-GROUPS = ["permanent", "C-H-O", "N", "S", "Cl", "condensed"]
+GROUPS = ["permanent", "C-H-O", "N", "S", "Cl", "other elements", "condensed"]
+CURATED_ELEMENTS = {"C", "H", "O", "N", "S", "Cl"}
 
 CONVERTED_NOTE = "converted exactly from 9-coefficient form"
 
@@ -488,6 +545,15 @@ def nasa7_rows(thermo, name):
     return bounds, rows, converted
 
 
+def check_continuity(name, bounds, rows):
+    """Fail unless h steps by less than MAX_JUMP_RT * RT + MAX_JUMP_J at every internal bound."""
+    for T, lower, upper in zip(bounds[1:-1], rows, rows[1:]):
+        h_RT = [a[0] + a[1] * T / 2 + a[2] * T**2 / 3 + a[3] * T**3 / 4 + a[4] * T**4 / 5 + a[5] / T
+                for a in (lower, upper)]
+        if abs(h_RT[1] - h_RT[0]) > MAX_JUMP_RT + MAX_JUMP_J / (8.314462618 * T):
+            raise ValueError(f"{name}: h/RT jumps by {h_RT[1] - h_RT[0]:.4g} at {T} K; add it to LEFT_OUT")
+
+
 def check_composition(our_name, formula, nasa_record):
     """Fail unless the formula's elements equal the NASA record's composition."""
     from_formula = parse_formula(formula)
@@ -506,6 +572,8 @@ def group_of(name, elements, phase):
         return "condensed"
     if name in PERMANENT_GASES:
         return "permanent"
+    if set(elements) - CURATED_ELEMENTS:
+        return "other elements"
     for marker in ("Cl", "S", "N"):
         if marker in elements:
             return marker
@@ -542,6 +610,76 @@ def critical_block(spec, crit_index):
     }
 
 
+def fix_case(text, composition):
+    """NASA writes some two-letter element symbols in capitals (``CL``, ``AL``): restore them."""
+    for element in sorted(composition, key=len, reverse=True):
+        if len(element) == 2:
+            text = text.replace(element.upper(), element)
+    return text
+
+
+def formula_of(base, composition):
+    """``base`` when it parses to ``composition``, else the composition written out."""
+    try:
+        if parse_formula(base) == composition:
+            return base
+    except ValueError:
+        pass
+    return "".join(f"{el}{n if n != 1 else ''}" for el, n in composition.items())
+
+
+def auto_name(nasa_name, composition, phase, condensed_formulas):
+    """Our name for a NASA record without a curated row, and its formula.
+
+    Element symbols get their normal case; a liquid's ``(L)`` becomes ``(l)``; a gas atom of
+    an element that also has a condensed form in the file gets ``(g)`` (``Fe(g)``), so that
+    the bare symbol is never read as the gas by mistake.
+    """
+    fixed = fix_case(nasa_name, composition)
+    if phase == "gas":
+        base = fixed.split(",")[0]
+        formula = formula_of(base, composition)
+        if len(composition) == 1 and list(composition.values()) == [1] and fixed in condensed_formulas:
+            return f"{fixed}(g)", formula
+        return fixed, formula
+    match = re.match(r"^(.*)\(([^()]*)\)$", fixed)
+    base, tag = match.group(1), match.group(2)
+    tag = "l" if tag == "L" else tag
+    return f"{base}({tag})", formula_of(base, composition)
+
+
+def is_charged(record):
+    """An ion or the electron: an E in the composition, or a name ending in + or - (the
+    bundled Zn+ record lacks the E)."""
+    name = str(record["name"])
+    return "E" in {str(k) for k in record["composition"]} or name.endswith(("+", "-"))
+
+
+def auto_entries(gas_index, condensed_index):
+    """Entries for every uncharged NASA record that no curated row takes."""
+    used_gas = {row[1] for row in GAS_SPECIES}
+    used_condensed = {row[1] for row in CONDENSED_SPECIES}
+    condensed_formulas = set()
+    for record in condensed_index.values():
+        composition = {str(k): int(v) for k, v in record["composition"].items()}
+        if len(composition) == 1 and list(composition.values()) == [1]:
+            condensed_formulas.add(next(iter(composition)))
+    entries = []
+    for index, used, phase_of in ((gas_index, used_gas, lambda n: "gas"),
+                                  (condensed_index, used_condensed,
+                                   lambda n: "liquid" if n.endswith("(L)") else "solid")):
+        for nasa_name, record in index.items():
+            if nasa_name in used or is_charged(record):
+                continue
+            composition = {str(k): int(v) for k, v in record["composition"].items()}
+            phase = phase_of(nasa_name)
+            name, formula = auto_name(nasa_name, composition, phase, condensed_formulas)
+            if name in LEFT_OUT:
+                continue
+            entries.append((name, record, formula, phase, "", [], None))
+    return entries
+
+
 def build_records(gas_index, condensed_index, crit_index):
     """Assemble species records in output order; returns a list of (name, record)."""
     entries = []
@@ -549,14 +687,24 @@ def build_records(gas_index, condensed_index, crit_index):
         entries.append((name, gas_index[nasa_name], formula, "gas", common, aliases, crit))
     for name, nasa_name, formula, phase, common, aliases in CONDENSED_SPECIES:
         entries.append((name, condensed_index[nasa_name], formula, phase, common, aliases, None))
+    entries.extend(auto_entries(gas_index, condensed_index))
 
     records = []
     for position, (name, nasa, formula, phase, common, aliases, crit) in enumerate(entries):
         elements = check_composition(name, formula, nasa)
         bounds, rows, converted = nasa7_rows(nasa["thermo"], nasa["name"])
+        check_continuity(name, bounds, rows)
         note = str(nasa["thermo"].get("note", "")).strip()
         if converted:
             note = f"{note}; {CONVERTED_NOTE}" if note else CONVERTED_NOTE
+        reference = REF_NASA
+        if name in RANGE_LIMITS:
+            t_min, reference = RANGE_LIMITS[name]
+            if not bounds[0] < t_min < bounds[1]:
+                raise ValueError(f"{name}: limit {t_min} K outside its first range {bounds[:2]}")
+            note = (f"{note}; TM-4513 polynomial (reference {REF_NASA}), lower bound raised "
+                    f"from {bounds[0]:g} K to {t_min:g} K (see {reference})")
+            bounds = [t_min] + bounds[1:]
         record = {
             "formula": formula,
             "common_name": common,
@@ -572,7 +720,7 @@ def build_records(gas_index, condensed_index, crit_index):
                     "model": "nasa7",
                     "T_bounds": bounds,
                     "coefficients": rows,
-                    "reference": REF_NASA,
+                    "reference": reference,
                     "data_note": note,
                 },
             }
@@ -592,9 +740,11 @@ def check_names(records):
     names = [name for _, _, name, _ in records]
     if len(set(names)) != len(names):
         raise ValueError("duplicate species names")
-    folded = {name.lower(): name for name in names}
-    if len(folded) != len(names):
-        raise ValueError("species names differ only in case")
+    # Names may differ only in case where the chemistry does (CS2 carbon disulfide, Cs2
+    # dicesium); the database then refuses a case-insensitive lookup that fits both.
+    folded = {}
+    for name in names:
+        folded.setdefault(name.lower(), name)
     seen = {}
     for _, _, name, record in records:
         for alias in record.get("aliases", []):
@@ -602,7 +752,7 @@ def check_names(records):
                 raise ValueError(f"{name}: alias {alias!r} is not lower-case")
             if alias in seen:
                 raise ValueError(f"alias {alias!r} used by {seen[alias]} and {name}")
-            if alias in folded and folded[alias] != name:
+            if alias in folded and folded[alias].lower() != name.lower():
                 raise ValueError(f"alias {alias!r} of {name} is another species' name")
             seen[alias] = name
 
@@ -694,6 +844,14 @@ def render(records, provenance):
     return "\n".join(lines) + "\n"
 
 
+def compact_json(text):
+    """The same document as one line of JSON (``species.json``), which loads about thirty
+    times faster than the YAML; the database reads this form of the bundled file."""
+    document = yaml.load(text, Loader=_PlainLoader)
+    document["generated_from"] = "species.yaml (see data/README.md); do not edit by hand"
+    return json.dumps(document, ensure_ascii=False, separators=(",", ":")) + "\n"
+
+
 def build():
     """Read cantera's bundled files and return the text of species.yaml."""
     import cantera
@@ -732,19 +890,25 @@ def main(argv=None):
     )
     args = parser.parse_args(argv)
     text = build()
+    outputs = [(args.output, text),
+               (os.path.splitext(args.output)[0] + ".json", compact_json(text))]
     if args.check:
-        try:
-            with open(args.output, encoding="utf-8") as handle:
-                same = handle.read() == text
-        except FileNotFoundError:
-            same = False
-        print(f"{args.output}: {'up to date' if same else 'differs from a fresh build'}")
-        return 0 if same else 1
-    with open(args.output, "w", encoding="utf-8", newline="\n") as handle:
-        handle.write(text)
+        stale = 0
+        for path, content in outputs:
+            try:
+                with open(path, encoding="utf-8") as handle:
+                    same = handle.read() == content
+            except FileNotFoundError:
+                same = False
+            stale += not same
+            print(f"{path}: {'up to date' if same else 'differs from a fresh build'}")
+        return 0 if stale == 0 else 1
+    for path, content in outputs:
+        with open(path, "w", encoding="utf-8", newline="\n") as handle:
+            handle.write(content)
     n_gas = sum(1 for line in text.splitlines() if line.strip() == "phase: gas")
-    print(f"wrote {args.output}: {n_gas} gases, "
-          f"{len(GAS_SPECIES) + len(CONDENSED_SPECIES) - n_gas} condensed species")
+    n_all = sum(1 for line in text.splitlines() if line.strip().startswith("phase: "))
+    print(f"wrote {args.output}: {n_gas} gases, {n_all - n_gas} condensed species")
     return 0
 
 
