@@ -649,10 +649,10 @@ def auto_name(nasa_name, composition, phase, condensed_formulas):
 
 
 def is_charged(record):
-    """An ion or the electron: an E in the composition, or a name ending in + or - (the
-    bundled Zn+ record lacks the E)."""
+    """An ion or the electron: an E in the composition, or a formula ending in + or - (the
+    bundled Zn+ record lacks the E; "C3H4,cyclo-" is not an ion)."""
     name = str(record["name"])
-    return "E" in {str(k) for k in record["composition"]} or name.endswith(("+", "-"))
+    return "E" in {str(k) for k in record["composition"]} or ("," not in name and name.endswith(("+", "-")))
 
 
 def auto_entries(gas_index, condensed_index):
