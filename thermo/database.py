@@ -21,6 +21,7 @@ from typing import Iterable, Mapping
 from .elements import molar_mass as molar_mass_of, parse_formula
 from .models import P_STANDARD, FormationDataModel, Nasa7Polynomial
 from .species import GAS, CONDENSED_PHASES, CriticalConstants, Species
+from .units import UnitError, to_pascal
 
 
 class DatabaseError(ValueError):
@@ -261,8 +262,7 @@ def species_from_mapping(name: str, entry: Mapping, references: Mapping, origin:
     model = _model_from_mapping(thermo, f"{where}.thermo")
     ref_key = str(thermo.get("reference", ""))
     ref = references.get(ref_key, {}) if ref_key else {}
-    p_source = float(ref.get("standard_pressure_Pa", thermo.get("standard_pressure_Pa", P_STANDARD))) \
-        if isinstance(ref, Mapping) else P_STANDARD
+    p_source = standard_pressure_of(thermo, ref if isinstance(ref, Mapping) else {}, where, ref_key)
     if phase == GAS and abs(p_source - P_STANDARD) > 1e-6:
         # ideal-gas entropy at the eqdesign standard pressure (1 bar)
         model = model.shifted_entropy(math.log(p_source / P_STANDARD))
@@ -283,6 +283,39 @@ def species_from_mapping(name: str, entry: Mapping, references: Mapping, origin:
         data_note=str(thermo.get("data_note", "")),
         uncertainty=dict(entry["uncertainty"]) if entry.get("uncertainty") else None,
     )
+
+
+STANDARD_PRESSURES = {P_STANDARD: "1 bar", 101325.0: "1 atm"}
+PRESSURE_KEYS = ("standard_pressure", "standard_pressure_Pa")
+
+
+def standard_pressure_of(thermo: Mapping, reference: Mapping, where: str, ref_key: str) -> float:
+    """The standard pressure [Pa] of a species' source data: 1e5 (1 bar) or 101325 (1 atm).
+
+    Read from the thermo block, else from its reference (key ``standard_pressure``, a
+    quantity such as ``"1 atm"`` or a number in Pa, or ``standard_pressure_Pa``).  It is
+    required: data from a 1 atm table read as 1 bar would shift K by 1.01325^Δn (2.6 % for
+    ammonia synthesis), so there is no default.
+    """
+    for block, label in ((thermo, f"{where}.thermo"), (reference, f"references.{ref_key}")):
+        for key in PRESSURE_KEYS:
+            if key not in block:
+                continue
+            value = block[key]
+            try:
+                pressure = float(to_pascal(value))
+            except (UnitError, TypeError, ValueError) as exc:
+                raise DatabaseError(f"{label}.{key}: {value!r} is not a pressure ({exc}); write "
+                                    "standard_pressure: 1 bar or standard_pressure: 1 atm") from None
+            for known in STANDARD_PRESSURES:
+                if abs(pressure - known) <= 1e-6 * known:
+                    return known
+            raise DatabaseError(f"{label}.{key}: {value!r} is neither 1 bar nor 1 atm; give the standard "
+                                "pressure of the source table, standard_pressure: 1 bar or 1 atm")
+    place = f" or to references.{ref_key}" if ref_key else ""
+    raise DatabaseError(f"{where}.thermo: missing key 'standard_pressure'; add standard_pressure: 1 bar "
+                        f"(NIST-JANAF since 1982, NASA TM-4513) or standard_pressure: 1 atm (older tables) "
+                        f"to the thermo block{place}")
 
 
 def _model_from_mapping(thermo: Mapping, where: str):
