@@ -134,3 +134,20 @@ def test_bundled_json_and_yaml_hold_the_same_data(db):
         assert (sp.formula, sp.elements, sp.phase, sp.molar_mass, sp.reference) == \
             (other.formula, other.elements, other.phase, other.molar_mass, other.reference), name
         assert np.array_equal(sp.model.coefficients, other.model.coefficients), name
+
+
+def test_a_case_file_naming_bare_carbon_is_refused(tmp_path):
+    """Case files used to accept `C` (carbon gas) where graphite was meant."""
+    import pathlib
+
+    from eqdesign.solve.casefile.reader import load_case
+    from eqdesign.solve.casefile.yaml_lines import CaseError
+    demo = pathlib.Path(__file__).resolve().parents[2] / "cases" / "steam_reformer_carbon.yaml"
+    text = demo.read_text(encoding="utf-8").replace("species: [CH4, C2H6, C3H8, H2O, CO, CO2, H2, N2]",
+                                                    "species: [CH4, C2H6, C3H8, H2O, CO, CO2, H2, N2, C]")
+    assert "N2, C]" in text
+    case = tmp_path / "case.yaml"
+    case.write_text(text, encoding="utf-8")
+    with pytest.raises(CaseError) as err:
+        load_case(case)
+    assert "'C' is ambiguous: write C(gr) for graphite or C(g) for atomic carbon (gas)" in str(err.value)
