@@ -314,13 +314,12 @@ def build_records(gas_index, condensed_index, crit_index):
         note = str(nasa["thermo"].get("note", "")).strip()
         if converted:
             note = f"{note}; {CONVERTED_NOTE}" if note else CONVERTED_NOTE
-        reference = REF_NASA
         if name in RANGE_LIMITS:
-            t_min, reference = RANGE_LIMITS[name]
+            t_min, range_key = RANGE_LIMITS[name]
             if not bounds[0] < t_min < bounds[1]:
                 raise ValueError(f"{name}: limit {t_min} K outside its first range {bounds[:2]}")
-            note = (f"{note}; TM-4513 polynomial (reference {REF_NASA}), lower bound raised "
-                    f"from {bounds[0]:g} K to {t_min:g} K (see {reference})")
+            note = (f"{note}; lower bound raised from {bounds[0]:g} K to {t_min:g} K, "
+                    f"{REFERENCES[range_key]['reason']} (references.{range_key})")
             bounds = [t_min] + bounds[1:]
         record = {
             "formula": formula,
@@ -337,7 +336,7 @@ def build_records(gas_index, condensed_index, crit_index):
                     "model": "nasa7",
                     "T_bounds": bounds,
                     "coefficients": rows,
-                    "reference": reference,
+                    "reference": REF_NASA,
                     "data_note": note,
                 },
             }

@@ -83,10 +83,9 @@ REFERENCES = {
             "value from memory, as shown on any Fe-O phase diagram). The TM-4513 FeO(s) "
             "record is stoichiometric FeO, not Fe0.947O, and with it wustite would appear "
             "stable down to about 450 K. No Fe0.947O record is bundled with cantera, so "
-            "the FeO(s) polynomial is kept but its lower bound is raised to 843 K. The "
-            "polynomial itself is the TM-4513 one, on its 1 bar standard state."
+            "the FeO(s) polynomial is kept but its lower bound is raised to 843 K."
         ),
-        "standard_pressure_Pa": 100000.0,
+        "reason": "wustite is unstable below the Fe-FeO-Fe3O4 eutectoid near 570 degC",
     },
 }
 
