@@ -3,7 +3,8 @@
 Subcommands (each has ``--help``):
 
 * ``eqdesign ktable REACTION``  K(T), ΔrH°, ΔrS°, ΔrG° over a temperature range
-* ``eqdesign species NAME``     data, valid range and source of a species (``--list`` for all)
+* ``eqdesign species NAME``     data, valid range and source of a species (``--list`` for all,
+                                 ``--element Fe --phase solid`` to filter)
 * ``eqdesign point ...``        one equilibrium state, as a table or ``--json``
 * ``eqdesign check CASE``       check a case file completely, run nothing
 * ``eqdesign run CASE``         run a case file's studies into an output folder (report, CSV, figures)
@@ -161,9 +162,14 @@ def cmd_ktable(args) -> int:
 
 def cmd_species(args) -> int:
     db = bundled_database()
-    if args.list:
-        for sp in db:
-            print(f"{sp.name:16} {sp.phase:7} {sp.common_name}")
+    if args.list or args.element or args.phase:
+        try:
+            names = db.names_matching(element=args.element, phase=args.phase)
+        except ValueError as exc:
+            raise InputProblem(f"species: {exc}") from None
+        for name in names:
+            sp = db.species[name]
+            print(f"{sp.name:18} {sp.phase:7} {sp.T_min:7g}-{sp.T_max:<6g} K  {sp.common_name}")
         return 0
     if not args.name:
         raise InputProblem("species: give a species name, or --list")
@@ -396,6 +402,10 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("species", help="data, valid range and source of a species")
     p.add_argument("name", nargs="?", help="species name or common name, e.g. NH3 or ammonia")
     p.add_argument("--list", action="store_true", help="list every species in the database")
+    p.add_argument("--element", action="append", metavar="SYMBOL",
+                   help="list only species containing this element (repeatable: all of them)")
+    p.add_argument("--phase", choices=("gas", "solid", "liquid", "condensed"),
+                   help="list only species in this phase")
     p.set_defaults(func=cmd_species)
     p = sub.add_parser("point", help="solve one equilibrium state")
     p.add_argument("--feed", nargs="+", required=True, metavar="NAME=MOL", help="feed, e.g. N2=1 H2=3")

@@ -155,14 +155,14 @@ def test_kc_kp_kx_round_trips(K, dn, T, P):
 
 
 def test_kc_from_k_against_cantera(db):
-    """Kc of N2 + 3 H2 = 2 NH3 (Δn = -2) from our K via K_to_Kp (Pa) and Kp_to_Kc against
+    """Kc of N2 + 3 H2 = 2 NH3 (Δn = -2) from our K via K_to_Kp (Pa) and Kp_to_Kc (Pa in) against
     cantera's concentration-basis constant for the same NASA data (kmol/m³ -> mol/m³)."""
     rxn = Reaction.parse("N2 + 3 H2 = 2 NH3", db)
     gas, _ = cantera_phase(["N2", "H2", "NH3"], db, reactions=["N2 + 3 H2 <=> 2 NH3"])
     for T in (600.0, 700.0, 800.0):
         gas.TP = T, P_STANDARD
         kc_cantera = gas.equilibrium_constants[0] * 1000.0 ** -2          # (mol/m³)^-2
-        kc_ours = Kp_to_Kc(K_to_Kp(rxn.equilibrium_constant(T), -2, pressure_unit=1.0), -2, T)
+        kc_ours = Kp_to_Kc(K_to_Kp(rxn.equilibrium_constant(T), -2, pressure_unit=1.0), -2, T, pressure_unit=1.0)
         assert kc_ours == pytest.approx(kc_cantera, rel=1e-9)
 
 

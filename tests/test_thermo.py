@@ -116,7 +116,7 @@ def test_K_matches_cantera_from_same_coefficients(db):
         Kc = gas.equilibrium_constants                      # (kmol/m3)^Δn
         for j, text in enumerate(REACTIONS_FOR_CANTERA):
             rxn = Reaction.parse(text.replace("<=>", "="))
-            Kp = Kc_to_Kp(Kc[j] * 1000.0 ** rxn.delta_n_gas, rxn.delta_n_gas, T)   # mol/m3 -> Pa
+            Kp = Kc_to_Kp(Kc[j] * 1000.0 ** rxn.delta_n_gas, rxn.delta_n_gas, T, pressure_unit=1.0)  # Pa
             K_ct = Kp / 1e5 ** rxn.delta_n_gas
             assert rxn.equilibrium_constant(T) == pytest.approx(K_ct, rel=1e-10), (text, T)
 

@@ -16,6 +16,11 @@ ATOMIC_WEIGHTS = {
     "Cr": 51.9961, "Mn": 54.938043, "Fe": 55.845, "Co": 58.933194, "Ni": 58.6934,
     "Cu": 63.546, "Zn": 65.38, "Br": 79.904, "Kr": 83.798, "Mo": 95.95, "I": 126.90447,
     "Xe": 131.293, "Pt": 195.084, "Pb": 207.2,
+    "Sr": 87.62, "Zr": 91.224, "Nb": 92.90637, "Cs": 132.90545196, "Ba": 137.327,
+    "Ta": 180.94788, "Hg": 200.592,
+    # deuterium, which the NASA files carry as an element: the atomic mass of 2H
+    # (CODATA 2018 recommended values, from memory)
+    "D": 2.01410177812,
 }
 
 _TOKEN = re.compile(r"([A-Z][a-z]?)(\d*)|(\()|(\))(\d*)")

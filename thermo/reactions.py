@@ -202,12 +202,11 @@ class Reaction:
         """Dimensionless K(T) on the 1 bar standard state."""
         return _float_or_array(np.exp(np.asarray(self.ln_K(T))))
 
-    def reaction_quotient(self, mole_fractions: Mapping[str, float], P):
-        """Reaction quotient Q of a gas composition at pressure P (ideal gas, 1 bar standard state).
-
-        Gas activities are y_i P / 1 bar; pure condensed species have activity 1.
-        """
-        return reaction_quotient(self, mole_fractions, P)
+    def reaction_quotient(self, mole_fractions: Mapping[str, float], P, *, normalise: bool = False,
+                          database: SpeciesDatabase | None = None):
+        """Reaction quotient Q of a gas composition at pressure P (ideal gas, 1 bar standard
+        state); see the module function :func:`reaction_quotient` for the checks made."""
+        return reaction_quotient(self, mole_fractions, P, normalise=normalise, database=database)
 
 
 def check_balance(text: str, species, coefficients) -> None:
@@ -366,74 +365,197 @@ class ReactionDerivedModel(EnthalpyEntropyModel):
 
 
 # --------------------------------------------------------------- conversions
+# Pressure and concentration units the conversions name in their unit strings [Pa], [mol/m³].
+_PRESSURE_UNIT_NAMES = {1.0: "Pa", 1e3: "kPa", 1e5: "bar", 101325.0: "atm", 1e6: "MPa"}
+_CONCENTRATION_UNIT_NAMES = {1.0: "mol/m³", 1e3: "mol/L"}
+
+
+def _power_unit(base: str, delta_n: float) -> str:
+    if delta_n == 0:
+        return "1"
+    exponent = f"{delta_n:g}"
+    return f"{base}^{exponent}" if "/" not in base else f"({base})^{exponent}"
+
+
+def Kp_unit(delta_n: float, pressure_unit: float = P_STANDARD) -> str:
+    """Unit string of Kp for a reaction with gas-mole change Δn, e.g. ``"bar^-2"``.
+
+    ``pressure_unit`` [Pa] is the pressure unit Kp is expressed in (``1e5`` bar, ``101325``
+    atm, ``1`` Pa, ``1e3`` kPa, ``1e6`` MPa; other values give ``"(<value> Pa)^Δn"``).
+
+    >>> Kp_unit(-2)
+    'bar^-2'
+    >>> Kp_unit(1, pressure_unit=101325.0)
+    'atm^1'
+    """
+    name = _PRESSURE_UNIT_NAMES.get(float(pressure_unit), f"({float(pressure_unit):g} Pa)")
+    return _power_unit(name, float(delta_n))
+
+
+def Kc_unit(delta_n: float, concentration_unit: float = 1.0) -> str:
+    """Unit string of Kc for a reaction with gas-mole change Δn, e.g. ``"(mol/m³)^-2"``.
+
+    ``concentration_unit`` [mol/m³] is the concentration unit Kc is expressed in (``1``
+    mol/m³, ``1e3`` mol/L; other values give ``"(<value> mol/m³)^Δn"``).
+
+    >>> Kc_unit(-2)
+    '(mol/m³)^-2'
+    """
+    name = _CONCENTRATION_UNIT_NAMES.get(float(concentration_unit),
+                                         f"{float(concentration_unit):g} mol/m³")
+    return _power_unit(name, float(delta_n))
+
+
 def K_to_Kp(K, delta_n: float, pressure_unit: float = P_STANDARD):
     """Kp in (pressure_unit)^Δn from the dimensionless K on the 1 bar standard state.
 
-    ``Kp = K (P° / unit)^Δn``; e.g. ``pressure_unit=101325`` gives Kp in atm^Δn.
+    ``Kp = K (P° / unit)^Δn`` (ideal gas).  ``pressure_unit`` [Pa]: ``1e5`` (default) gives
+    Kp in bar^Δn, ``101325`` in atm^Δn, ``1`` in Pa^Δn; :func:`Kp_unit` names it.
 
-    >>> round(K_to_Kp(1.0, -2, pressure_unit=1e5), 12)
-    1.0
+    >>> round(K_to_Kp(1.0, -2, pressure_unit=101325.0), 6)     # (1e5/101325)^-2
+    1.026676
     """
     return K * (P_STANDARD / pressure_unit) ** delta_n
 
 
 def Kp_to_K(Kp, delta_n: float, pressure_unit: float = P_STANDARD):
-    """Dimensionless K on the 1 bar standard state from Kp in (pressure_unit)^Δn; the inverse
-    of :func:`K_to_Kp`: ``K = Kp (unit / P°)^Δn``.
+    """Dimensionless K (1 bar standard state) from Kp in (pressure_unit)^Δn: the inverse
+    of :func:`K_to_Kp`, ``K = Kp (unit / P°)^Δn``.
 
-    >>> round(Kp_to_K(K_to_Kp(3.0, -2, pressure_unit=101325.0), -2, pressure_unit=101325.0), 12)
+    >>> Kp_to_K(K_to_Kp(3.0, 1.5, pressure_unit=101325.0), 1.5, pressure_unit=101325.0)
     3.0
     """
-    return Kp * (pressure_unit / P_STANDARD) ** delta_n
+    return Kp / (P_STANDARD / pressure_unit) ** delta_n     # the same factor as K_to_Kp
 
 
-def Kp_to_Kc(Kp_pascal, delta_n: float, T):
-    """Kc in (mol/m³)^Δn from Kp in Pa^Δn: ``Kc = Kp / (RT)^Δn`` (ideal gas)."""
+def Kp_to_Kc(Kp, delta_n: float, T, pressure_unit: float = P_STANDARD, concentration_unit: float = 1.0):
+    """Kc in (concentration_unit)^Δn from Kp in (pressure_unit)^Δn (ideal gas).
+
+    ``Kc = Kp (p_unit / (R T c_unit))^Δn``: with the defaults Kp is in bar^Δn (what
+    :func:`K_to_Kp` returns by default) and Kc in (mol/m³)^Δn; :func:`Kc_unit` names it.
+
+    Parameters
+    ----------
+    Kp : float | ndarray   Kp [pressure_unit^Δn]
+    delta_n : float        change in moles of gas Δn [-]
+    T : float | str        temperature [K] or a quantity such as ``"450 degC"``
+    pressure_unit : float  the pressure unit of Kp [Pa] (1e5: bar)
+    concentration_unit : float  the concentration unit of Kc [mol/m³] (1e3: mol/L)
+    """
     T = to_kelvin(T)
-    return Kp_pascal / (R * T) ** delta_n
+    return Kp * (pressure_unit / (R * T * concentration_unit)) ** delta_n
 
 
-def Kc_to_Kp(Kc, delta_n: float, T):
-    """Kp in Pa^Δn from Kc in (mol/m³)^Δn: ``Kp = Kc (RT)^Δn``."""
+def Kc_to_Kp(Kc, delta_n: float, T, pressure_unit: float = P_STANDARD, concentration_unit: float = 1.0):
+    """Kp in (pressure_unit)^Δn from Kc in (concentration_unit)^Δn: the exact inverse of
+    :func:`Kp_to_Kc`, ``Kp = Kc (R T c_unit / p_unit)^Δn`` (defaults: bar, mol/m³)."""
     T = to_kelvin(T)
-    return Kc * (R * T) ** delta_n
+    return Kc / (pressure_unit / (R * T * concentration_unit)) ** delta_n    # the factor of Kp_to_Kc
 
 
 def K_to_Kx(K, delta_n: float, P):
-    """Kx (mole-fraction quotient at equilibrium) at pressure P: ``Kx = K (P/P°)^-Δn``."""
+    """Kx (mole-fraction quotient at equilibrium, dimensionless) at pressure P [Pa or a
+    quantity such as ``"30 bar"``]: ``Kx = K (P/P°)^-Δn`` (ideal gas)."""
     P = to_pascal(P)
     return K * (P / P_STANDARD) ** (-delta_n)
 
 
 def Kx_to_K(Kx, delta_n: float, P):
-    """Dimensionless K from Kx at pressure P, the inverse of :func:`K_to_Kx`: ``K = Kx (P/P°)^Δn``."""
+    """Dimensionless K from Kx at pressure P: the inverse of :func:`K_to_Kx`."""
     P = to_pascal(P)
-    return Kx * (P / P_STANDARD) ** delta_n
+    return Kx / (P / P_STANDARD) ** (-delta_n)     # the factor of K_to_Kx
 
 
-def reaction_quotient(reaction: Reaction, mole_fractions: Mapping[str, float], P):
-    """Q = Π a_i^ν_i with a_i = y_i P / 1 bar for gases and 1 for pure condensed phases."""
+MOLE_FRACTION_SUM_TOLERANCE = 1e-6
+
+
+def reaction_quotient(reaction, mole_fractions: Mapping[str, float], P, *, normalise: bool = False,
+                      database: SpeciesDatabase | None = None):
+    """Reaction quotient Q = Π a_i^ν_i of a gas mixture at pressure P (ideal gas, 1 bar
+    standard state): a_i = y_i P / 1 bar for gases, 1 for pure condensed phases.
+
+    Parameters
+    ----------
+    reaction : str | Reaction
+    mole_fractions : mapping name -> float | ndarray
+        Gas-phase mole fractions y_i [-] (names or aliases), one value or one array of
+        states each.  Every gas species of the reaction must appear (0 where absent);
+        other gases of the mixture (inerts) may appear too.  They must sum to 1 within
+        1e-6 unless ``normalise=True``, which divides amounts (e.g. kmol/h) by their sum.
+    P : float | ndarray | str
+        Pressure [Pa] or a quantity such as ``"30 bar"``.
+    normalise : bool
+        Treat the values as amounts and divide by their sum.
+    database : SpeciesDatabase, optional
+        For parsing a reaction string and resolving names; the bundled one by default.
+
+    Returns
+    -------
+    float | ndarray
+        Q [-], a float for scalar input.
+
+    >>> round(reaction_quotient("N2 + 3 H2 = 2 NH3", {"N2": 0.25, "hydrogen": 0.7, "NH3": 0.05}, 1e5), 6)
+    0.029155
+    """
+    database = database or bundled_database()
+    rxn = reaction if isinstance(reaction, Reaction) else Reaction.parse(reaction, database)
+    y = {}
+    for key, value in mole_fractions.items():
+        try:
+            name = database.resolve(str(key))
+        except UnknownSpeciesError as exc:
+            raise ReactionError(f"reaction quotient of {rxn.text!r}: {exc}") from None
+        if name in y:
+            raise ReactionError(f"reaction quotient of {rxn.text!r}: {key!r} and another entry are both "
+                                f"{name}; give each species once")
+        if not database[name].is_gas:
+            raise ReactionError(f"reaction quotient of {rxn.text!r}: {name} is a condensed phase; give gas "
+                                "mole fractions only (a pure condensed phase has activity 1)")
+        arr = np.asarray(value, dtype=float)
+        if np.any(arr < 0) or not np.all(np.isfinite(arr)):
+            raise ReactionError(f"reaction quotient of {rxn.text!r}: the value for {key!r} must be finite "
+                                "and not negative")
+        y[name] = arr
+    missing = [sp.name for sp in rxn.species if sp.is_gas and sp.name not in y]
+    if missing:
+        raise ReactionError(f"reaction quotient of {rxn.text!r}: no mole fraction given for "
+                            f"{', '.join(missing)}; give every gas of the reaction (0 where absent)")
+    total = sum(y.values())
+    if normalise:
+        if np.any(total <= 0):
+            raise ReactionError(f"reaction quotient of {rxn.text!r}: the amounts sum to zero")
+        y = {k: v / total for k, v in y.items()}
+    elif np.any(np.abs(total - 1.0) > MOLE_FRACTION_SUM_TOLERANCE):
+        worst = float(np.max(np.abs(np.asarray(total, dtype=float) - 1.0)) + 1.0)
+        raise ReactionError(f"reaction quotient of {rxn.text!r}: mole fractions sum to {worst:.6g}, not 1; "
+                            "give mole fractions, or pass normalise=True to divide amounts by their sum")
     P = np.asarray(to_pascal(P), dtype=float)
-    lnQ = np.zeros_like(P)
-    for sp, nu in zip(reaction.species, reaction.coefficients):
-        if not sp.is_gas:
-            continue
-        y = np.asarray(mole_fractions.get(sp.name, 0.0), dtype=float)
-        with np.errstate(divide="ignore"):
-            lnQ = lnQ + nu * np.log(y * P / P_STANDARD)
+    lnQ = np.zeros(np.broadcast(P, *y.values()).shape)
+    for sp, nu in zip(rxn.species, rxn.coefficients):
+        if sp.is_gas:
+            with np.errstate(divide="ignore"):
+                lnQ = lnQ + nu * np.log(y[sp.name] * P / P_STANDARD)
     return _float_or_array(np.exp(lnQ))
 
 
-def shift_direction(Q, K, rtol: float = 1e-6) -> str:
+def shift_direction(Q, K, rtol: float = 1e-6):
     """Which way a mixture will react: ``"forward"`` (Q < K), ``"reverse"`` (Q > K) or
     ``"at equilibrium"`` (Q = K within ``rtol``).
 
+    Q and K may be floats or arrays (broadcast); an array gives an array of strings.
+    NaN in either is refused (ValueError): no direction is given for an undefined quotient.
+
     >>> shift_direction(0.5, 2.0)
     'forward'
+    >>> shift_direction([0.5, 2.0, 4.0], 2.0).tolist()
+    ['forward', 'at equilibrium', 'reverse']
     """
-    if abs(Q - K) <= rtol * max(abs(K), 1e-300):
-        return "at equilibrium"
-    return "forward" if Q < K else "reverse"
+    Q_arr, K_arr = np.asarray(Q, dtype=float), np.asarray(K, dtype=float)
+    if np.any(np.isnan(Q_arr)) or np.any(np.isnan(K_arr)):
+        raise ValueError("shift_direction: Q or K is NaN; no direction can be given")
+    equal = np.abs(Q_arr - K_arr) <= rtol * np.maximum(np.abs(K_arr), 1e-300)
+    out = np.where(equal, "at equilibrium", np.where(Q_arr < K_arr, "forward", "reverse"))
+    return str(out) if out.ndim == 0 else out.astype(object)
 
 
 def equilibrium_constant(reaction: str | Reaction, T, *, database: SpeciesDatabase | None = None):

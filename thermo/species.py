@@ -80,6 +80,30 @@ class Species:
         """Highest temperature of the data [K]."""
         return self.model.T_max
 
+    def valid_at(self, T):
+        """True where T [K] lies inside the data range [T_min - 2 K, T_max] (the 2 K margin
+        lets fits starting at 300 K serve the 298.15 K reference state).
+
+        A condensed phase outside its range must not be reported as present: its record may
+        describe a phase that does not exist there (FeO(s) below 843 K, see
+        ``data/README.md``), so a solver excludes it, or flags the state, where this is False.
+
+        Parameters
+        ----------
+        T : float | ndarray  temperature [K]
+
+        Returns
+        -------
+        bool | ndarray of bool, the shape of T
+
+        >>> from eqdesign.thermo import bundled_database
+        >>> bundled_database()["wustite"].valid_at([800.0, 900.0]).tolist()
+        [False, True]
+        """
+        T = np.asarray(T, dtype=float)
+        inside = (T >= self.T_min - 2.0) & (T <= self.T_max + 1e-9)
+        return bool(inside) if inside.ndim == 0 else inside
+
     def check_temperature(self, T) -> bool:
         """Warn (ExtrapolationWarning, once per species and side) when T leaves the data range.
 
