@@ -108,6 +108,24 @@ class UncertaintyRecord:
 
 
 @dataclass
+class Caution:
+    """A case-specific caution, shown next to the answer it concerns (design basis).
+
+    ``kind`` is one of :data:`CAUTION_KINDS`; ``where`` says where it applies (a study, a
+    pressure option, a temperature range), ``text`` is one sentence for the reader.
+    """
+
+    kind: str
+    where: str
+    text: str
+
+
+#: Kinds of case-specific cautions, in the order a reviewer reads them.
+CAUTION_KINDS = ("condensation", "carbon", "extrapolation", "range-end", "not-reachable",
+                 "approach", "not-converged", "model")
+
+
+@dataclass
 class RunResult:
     """Everything a run produced, before anything is written."""
 
@@ -124,6 +142,8 @@ class RunResult:
     T_used: tuple                   # (lowest, highest) temperature evaluated [K]
     study_times: dict = field(default_factory=dict)
     uncertainty: UncertaintyRecord | None = None
+    #: Case-specific cautions (:class:`Caution`), each with where it applies.
+    cautions: list = field(default_factory=list)
 
     @property
     def flagged(self) -> int:
