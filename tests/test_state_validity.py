@@ -1,0 +1,47 @@
+"""Per-state validity of equilibrium results: exact grouping of feed patterns, and states
+beyond the data range flagged on both the fixed-temperature and fixed-enthalpy paths."""
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+
+from eqdesign.solve.core.equilibrium import equilibrium
+from eqdesign.thermo import ExtrapolationWarning
+
+
+def test_feed_patterns_grouped_exactly_beyond_62_species(db):
+    """Argon at column 0 and helium at column 62: two feed patterns that a 62-bit presence
+    code confused (helium, fed at 1 mol, vanished).  Inert gases pass through unchanged
+    (element balance, no source needed)."""
+    fillers = [g.name for g in db if g.is_gas and set(g.elements) <= {"C", "H", "O", "N"}
+               and g.name not in ("N2",)][:61]
+    species = ["Ar"] + fillers + ["He", "N2"]
+    assert species.index("He") == 62
+    feed = {"Ar": np.array([1.0, 0.0]), "He": np.array([0.0, 1.0]), "N2": np.array([1.0, 1.0])}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        r = equilibrium(species, feed, 800.0, 1e5, warn=False)
+    assert r.all_converged
+    np.testing.assert_allclose(r.amounts["He"], [0.0, 1.0], atol=1e-12)
+    np.testing.assert_allclose(r.amounts["Ar"], [1.0, 0.0], atol=1e-12)
+
+
+def test_beyond_the_data_flagged_on_both_paths():
+    """150 K and 10,000 K lie outside the 200-6000 K range of the NASA polynomials of N2, H2
+    and NH3 (McBride, Zehe, Gordon, NASA/TP-2002-211556): at fixed T the states are solved
+    but flagged not trustworthy; at fixed enthalpy they are not answers either."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        r = equilibrium(["N2", "H2", "NH3"], {"N2": 1, "H2": 3}, [150.0, 700.0, 10000.0], 1e5, warn=False)
+    assert r.trustworthy.tolist() == [False, True, False]
+    assert r.state_flags()[0] == "outside data range: N2, H2, NH3"
+    assert "outside their data range" in r.message
+    # fixed enthalpy: the enthalpy of the 10,000 K gas mixture is beyond the data
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        h = equilibrium(["N2", "H2", "NH3"], {"N2": 1, "H2": 3}, 1000.0, 1e5,
+                        enthalpy=[0.0, 4.0e6, 1.0e6], warn=False)
+    assert h.trustworthy.tolist() == [True, False, False]
+    assert not h.converged[1:].any()   # 1 MJ: converges near 7000 K, beyond 6000 K: refused
+    assert "outside the data range" in h.message
