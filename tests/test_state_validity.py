@@ -45,3 +45,19 @@ def test_beyond_the_data_flagged_on_both_paths():
     assert h.trustworthy.tolist() == [True, False, False]
     assert not h.converged[1:].any()   # 1 MJ: converges near 7000 K, beyond 6000 K: refused
     assert "outside the data range" in h.message
+
+
+def test_map_points_beyond_the_data_are_flagged():
+    """A conversion map reaching 7000 K (beyond the 6000 K end of the NASA data of N2, H2, NH3,
+    NASA/TP-2002-211556) flags those points, in the record and in its table."""
+    from eqdesign.solve.studies.maps import conversion_map
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        m = conversion_map(["N2", "H2", "NH3"], {"N2": 1, "H2": 3}, T=[700.0, 7000.0], P=1e5, key="N2",
+                           approach=10.0)
+    assert m.all_converged
+    assert m.trustworthy.tolist() == [True, False]
+    rows = m.table()
+    assert [r["trustworthy [-]"] for r in rows] == [1, 0]
+    assert rows[1]["flags [text]"] == "outside data range: N2, H2, NH3"
+    assert "not trustworthy" in m.message
