@@ -304,6 +304,7 @@ user_species:
   XQ:
     formula: NH3
     phase: gas
+    standard_pressure: 1 bar
     formation_data: {enthalpy: "-45.9 kJ/mol", entropy: "192.8 J/(mol K)", cp: "35 J/(mol K)"}
 """
 
