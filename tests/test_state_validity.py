@@ -61,3 +61,18 @@ def test_map_points_beyond_the_data_are_flagged():
     assert [r["trustworthy [-]"] for r in rows] == [1, 0]
     assert rows[1]["flags [text]"] == "outside data range: N2, H2, NH3"
     assert "not trustworthy" in m.message
+
+
+def test_inverse_answers_say_whether_the_state_at_the_answer_is_trustworthy():
+    """Ammonia, 3:1 H2:N2: 20 % N2 conversion at 200 bar lies near 833 K, inside the data
+    (trustworthy); a 1.62e-6 conversion at 1 bar is reached only near 6800 K, above 6000 K, the end of the
+    NASA data (NASA/TP-2002-211556), so that answer is flagged."""
+    from eqdesign.solve.studies.inverse import temperature_for_conversion
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        ans = temperature_for_conversion(["N2", "H2", "NH3"], {"N2": 1, "H2": 3}, [200e5, 1e5], "N2",
+                                         [0.20, 1.62e-6], T_range=(500, 8000))
+    assert ans.status.tolist() == ["reached", "reached"]
+    assert ans.trustworthy.tolist() == [True, False]
+    assert ans.flags[0] == "" and ans.flags[1] == "outside data range: N2, H2, NH3"
+    assert ans.T[1] > 6000.0
