@@ -76,3 +76,19 @@ def test_inverse_answers_say_whether_the_state_at_the_answer_is_trustworthy():
     assert ans.trustworthy.tolist() == [True, False]
     assert ans.flags[0] == "" and ans.flags[1] == "outside data range: N2, H2, NH3"
     assert ans.T[1] > 6000.0
+
+
+def test_adiabatic_outlets_carry_the_flags():
+    """An adiabatic hydrogen-oxygen flame (stoichiometric, 1 bar, from 300 K) ends near 3100 K
+    (adiabatic flame temperature of H2/O2 about 3080 K at 1 atm with dissociation, Glassman,
+    Combustion, from memory): inside the 200-6000 K data, trustworthy; with H2O(l) admitted
+    its range ends at 600 K, so a liquid never shows at the outlet."""
+    from eqdesign.solve.studies.adiabatic import adiabatic_equilibrium
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtrapolationWarning)
+        out = adiabatic_equilibrium(["H2", "O2", "H2O", "OH", "H", "O", "H2O(l)"], {"H2": 2.0, "O2": 1.0},
+                                    300.0, 1e5, warn=False)
+    assert out.all_converged
+    assert 2900.0 < out.T < 3300.0
+    assert out.trustworthy is True and out.state_flags() == ""
+    assert out.equilibrium.condensed["H2O(l)"] == 0.0
