@@ -291,6 +291,11 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
     else:
         planned = int(max_beds) if inlets is None else min(int(max_beds), len(inlets))
     plan = _removal_plan(interstage_removal, db)
+    for bed, fractions in plan.items():
+        if fractions.get(key, 0.0) > 0.0:
+            raise EquilibriumInputError(f"interstage removal of {key} after bed {bed}: {key} is the key reactant, "
+                                        "and removing it would count the removed amount as converted; remove a "
+                                        "product (or an inert) instead")
     common = dict(reactions=reactions, gas_model=gas_model, database=db,
                   binary_interaction=binary_interaction, approach=approach, warn=False)
 

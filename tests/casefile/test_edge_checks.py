@@ -43,3 +43,11 @@ def test_empty_reactions_with_only_named_reactions_is_refused():
     msgs = problems_of(text)
     assert any("chemistry.reactions" in m and "is empty, which would let every species form" in m
                for m in msgs), msgs
+
+
+def test_the_staged_converter_refuses_removing_the_key_reactant():
+    from eqdesign.solve.core.result import EquilibriumInputError
+    from eqdesign.solve.studies.beds import staged_converter
+    with pytest.raises(EquilibriumInputError, match="SO2 is the key reactant, and removing it would count"):
+        staged_converter(["SO2", "O2", "SO3", "N2"], {"SO2": 10, "O2": 11, "N2": 79}, 1.2e5, "SO2", 693.15,
+                         reactions=["SO2 + 1/2 O2 = SO3"], n_beds=3, interstage_removal={1: "SO2"})
