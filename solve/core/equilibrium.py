@@ -21,7 +21,7 @@ import numpy as np
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import Nasa7Polynomial, Nasa7Table, P_STANDARD, R
 from ...thermo.reactions import bundled_database
-from ...thermo.species import standard_gibbs_RT
+from ...thermo.species import ExtrapolationWarning, standard_gibbs_RT
 from . import compiled as compiled_core
 from .fugacity import FugacityModel
 from .inputs import (broadcast_shape, feed_mapping, mapping_or_none, positive_number, pressures, quantity,
@@ -213,7 +213,11 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     total_feed = n0.sum(axis=1)
 
     # standard chemical potentials, (p, ns)
-    g0 = standard_gibbs_RT(records, Tf)
+    # extrapolation warnings are held back and re-issued after the solve for the species
+    # actually used outside their range (a condensed species left out there is not)
+    with warnings.catch_warnings(record=True) as held:
+        warnings.simplefilter("always", ExtrapolationWarning)
+        g0 = standard_gibbs_RT(records, Tf)
     for name, shift in shift_arrays.items():
         if name not in names:
             raise EquilibriumInputError(f"g0_shift names {name!r}, which is not among the species")
@@ -301,7 +305,10 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                                                   Hf[rows] / (R * scale), Tf[rows], tolerance,
                                                   max_iterations)
             Tf[rows] = T_solved
-            g0[rows] = standard_gibbs_RT(records, T_solved)
+            with warnings.catch_warnings(record=True) as held_h:
+                warnings.simplefilter("always", ExtrapolationWarning)
+                g0[rows] = standard_gibbs_RT(records, T_solved)
+            held.extend(held_h)
         else:
             out = minimise_gibbs(g0[rows][:, gas_cols], g0[rows][:, cond_cols], A_gas, A_cond, b,
                                  np.log(Pf[rows] / P_STANDARD), state=state, fugacity=fug,
@@ -349,6 +356,12 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     if beyond_data.any():    # fixed-enthalpy states whose temperature left the data: refused
         message += (f"; {int(beyond_data.sum())} fixed-enthalpy state(s) reach a temperature outside "
                     "the data range of the species (not an answer)")
+    used_outside = {names[j] for j in np.flatnonzero(out_of_range.any(axis=0))}
+    for w in held:
+        if not issubclass(w.category, ExtrapolationWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+        elif str(w.message).split(":")[0] in used_outside:
+            warnings.warn(str(w.message), ExtrapolationWarning, stacklevel=2)
     if out_of_range.any():
         bad_names = [names[j] for j in np.flatnonzero(out_of_range.any(axis=0))]
         note = (f"{int(out_of_range.any(axis=1).sum())} state(s) use species outside their data "
