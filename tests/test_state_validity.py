@@ -92,3 +92,17 @@ def test_adiabatic_outlets_carry_the_flags():
     assert 2900.0 < out.T < 3300.0
     assert out.trustworthy is True and out.state_flags() == ""
     assert out.equilibrium.condensed["H2O(l)"] == 0.0
+
+
+def test_a_trace_key_reactant_below_the_solver_resolution_is_not_an_answer():
+    """N2 fed at 1e-310 mol beside 3 mol H2 came back 'converged' with a conversion of
+    -5.7e287 (2.4e-11 mol NH3 made from 2e-310 mol N): element balance (no source needed)
+    now refuses such states; a normal feed in the same call is unaffected."""
+    r = equilibrium(["N2", "H2", "NH3"], {"N2": [1e-310, 1.0], "H2": 3.0}, 700.0, 200e5, key="N2", warn=False)
+    assert r.converged.tolist() == [False, True]
+    assert np.isnan(r.conversion()[0]) and 0.4 < r.conversion()[1] < 0.5
+    assert "lose a conserved quantity" in r.message
+    # whatever converges conserves every element to 0.1 %
+    n_in = r.feed_array[1] @ np.array([[2, 0, 1], [0, 2, 3]]).T
+    n_out = r.amount_array[1] @ np.array([[2, 0, 1], [0, 2, 3]]).T
+    np.testing.assert_allclose(n_out, n_in, rtol=1e-9)

@@ -346,8 +346,21 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 lp[np.ix_(np.flatnonzero(ok), gas_cols)] = eos.ln_phi(Tg[ok], Pg[ok], y, gas_index)
                 dense[rows[ok]] = eos.condensation_possible(Tg[ok], Pg[ok], y, gas_index)
             ln_phi_all[rows] = lp
+    # every conserved quantity (element or reaction invariant) to 0.1 % of its own size: a
+    # trace element far below the solver's resolution (relative to the whole feed) is lost,
+    # and that state is not an answer
+    with np.errstate(invalid="ignore", divide="ignore"):
+        drift = np.abs(np.nan_to_num(amounts - n0) @ C.T)
+        size = (n0 + np.nan_to_num(amounts)) @ np.abs(C).T
+        lost = converged & np.any(drift > 1e-3 * size + 1e-300, axis=1)
+    if lost.any():
+        converged &= ~lost
+        amounts[lost] = np.nan
     n_bad = int(n_points - converged.sum())
     message = "all states converged" if n_bad == 0 else f"{n_bad} of {n_points} state(s) did not converge (NaN)"
+    if lost.any():
+        message += (f"; {int(lost.sum())} state(s) lose a conserved quantity (an element or reaction invariant "
+                    "fed in a trace amount below the solver's resolution): raise its amount or leave it out")
     # species used outside their data range, per state (T of the solve on the enthalpy path)
     valid_solved = np.column_stack([np.asarray(sp.valid_at(Tf), dtype=bool).reshape(n_points)
                                     for sp in records])
