@@ -36,3 +36,19 @@ def test_case_with_an_unreachable_pressure_target_and_uncertainty_runs():
     row = next(r for r in targets.rows if r[1] == "pressure")
     assert row[targets.columns.index("status")] == "not reachable"
     assert any(c.kind == "not-reachable" for c in result.cautions)
+
+
+def test_a_range_end_answer_is_marked_in_the_targets_table_and_cautions():
+    """1 % N2 conversion at 100-200 bar is exceeded over the whole 400-500 degC window (ammonia
+    equilibrium there is 10-30 % conversion; Larson and Dodge 1923, from memory): the answer is
+    the end of the search range, and the report says so."""
+    text = (ROOT / "cases" / "ammonia_loop_pressure_options.yaml").read_text()
+    text = text.replace('      conversion: "25 %"\n      solve_for: temperature\n',
+                        '      conversion: "1 %"\n      solve_for: temperature\n'
+                        '      search: {low: "400 degC", high: "500 degC"}\n', 1)
+    text = text.replace("samples: 400", "samples: 20")
+    result = run_case(parse_case(text, "x.yaml"), coarse=True)
+    targets = result.table("targets")
+    statuses = [r[targets.columns.index("status")] for r in targets.rows if r[1] == "temperature"]
+    assert statuses and set(statuses) == {"search-range end"}
+    assert any(c.kind == "range-end" for c in result.cautions)
