@@ -253,9 +253,7 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     beyond_data = np.zeros(n_points, dtype=bool)
     # group states by the exact pattern (fed species, excluded condensed species): the
     # reachable set and the conservation rows depend only on that
-    patterns, group_of = np.unique(np.concatenate([present_feed, excluded], axis=1), axis=0,
-                                   return_inverse=True)
-    group_of = group_of.reshape(-1)
+    patterns, group_of = _exact_patterns(np.concatenate([present_feed, excluded], axis=1))
     for g, key_row in enumerate(patterns):
         pattern, left_out = key_row[:ns], key_row[ns:]
         rows = np.arange(n_points) if len(patterns) == 1 else np.flatnonzero(group_of == g)
@@ -405,6 +403,18 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
         condensation_possible=dense.reshape(shape) if eos is not None else None,
         out_of_range_array=out_of_range.reshape(shape + (ns,)),
         excluded_array=excluded.reshape(shape + (ns,)))
+
+
+def _exact_patterns(key: np.ndarray):
+    """The distinct rows of a boolean matrix (p, k) and the group of each row: (patterns
+    (g, k), group index (p,)).  Rows are compared bit for bit (packed bits), so no two
+    patterns share a group however many columns there are."""
+    if np.all(key == key[:1]):
+        return key[:1], np.zeros(key.shape[0], dtype=np.intp)
+    packed = np.ascontiguousarray(np.packbits(key, axis=1))
+    rows = packed.view(np.dtype((np.void, packed.shape[1]))).ravel()
+    _, first, group_of = np.unique(rows, return_index=True, return_inverse=True)
+    return key[first], group_of.reshape(-1)
 
 
 def _conserved_by(C, cols, n0):
