@@ -244,6 +244,13 @@ def cmd_point(args) -> int:
         "iterations": int(res.iterations), "max_residual": float(res.max_residual),
         "amounts_mol": res.amounts, "gas_mole_fractions": res.mole_fractions,
         "condensed_present": [k for k, v in res.condensed.items() if v > 0],
+        "trustworthy": bool(res.trustworthy),
+        "flags": {
+            "outside_data_range": sorted(res.out_of_range),
+            "left_out_outside_data_range": [n for n, f in zip(res.species, res.excluded_array) if f],
+            "condensation_possible": bool(res.condensation_possible) if res.condensation_possible is not None else False,
+            "text": res.state_flags(),
+        },
     }
     if res.reactions:
         payload["extents_mol"] = res.extents
@@ -251,18 +258,25 @@ def cmd_point(args) -> int:
             warnings.simplefilter("ignore")              # Q/K undefined (NaN) when no reactant is present
             payload["Q_over_K"] = res.quotient_over_K()
     if args.json:
-        payload["status"] = "converged" if res.all_converged else "not converged"
+        payload["status"] = ("not converged" if not res.all_converged else
+                             "converged" if res.trustworthy else "converged, not trustworthy")
         payload["missing_values"] = "null: not defined or not computed (for example Q/K with no reactant present)"
         json.dump(_strict_json(payload), sys.stdout, indent=2, allow_nan=False)
         print()
         return 0 if res.all_converged else 1
-    status = "converged" if res.all_converged else "NOT CONVERGED"
+    status = ("NOT CONVERGED" if not res.all_converged else
+              "converged" if res.trustworthy else "converged but NOT TRUSTWORTHY (see below)")
     print(f"Equilibrium at {T:.2f} K ({T - 273.15:.2f} degC), {P / 1e5:.4g} bar, "
           f"{args.gas_model} gas: {status} in {int(res.iterations)} iterations")
     print(f"{'species':16} {'amount [mol]':>14} {'gas mole fraction [-]':>22}")
     y = res.mole_fractions
     for name, n in res.amounts.items():
         print(f"{name:16} {n:14.6e} {y[name]:22.6e}" if name in y else f"{name:16} {n:14.6e} {'(condensed)':>22}")
+    if res.all_converged and not res.trustworthy:
+        print(f"NOT TRUSTWORTHY: {res.state_flags()}")
+    left_out = [n for n, f in zip(res.species, res.excluded_array) if f]
+    if left_out:
+        print(f"left out (state outside their data range): {', '.join(left_out)}")
     return 0 if res.all_converged else 1
 
 

@@ -79,6 +79,24 @@ def test_demo_case_runs_end_to_end(name, demo_runs):
         assert float(row[col]) == pytest.approx(100 * direct_conversion(case, T_op, P), rel=1e-7, abs=1e-9)
 
 
+@pytest.mark.parametrize("name", ["methanol_restricted_reactions", "shift_converters"])
+def test_restricted_cases_state_the_graphite_activity(name, demo_runs):
+    """Named-reaction cases with carbon-bearing gases: the conversion map's graphite activity
+    (above 1 in both: methanol and shift gases at low temperature lie inside the graphite
+    region, a known property of CO-rich gas below about 600 degC, common practice, no source)
+    is stated in a "carbon" caution with its largest value, which equals the CSV's maximum."""
+    _, folder = demo_runs[name]
+    summary = json.loads((folder / "run_summary.json").read_text())
+    carbon = [c for c in summary["cautions"] if c["kind"] == "carbon" and c["where"] == "conversion map"]
+    assert len(carbon) == 1
+    rows = read_csv(folder / "conversion_map.csv")
+    largest = max(float(r["graphite activity [-]"]) for r in rows)
+    assert largest > 1 and f"Graphite activity up to {largest:.3g}" in carbon[0]["text"]
+    assert {r["trustworthy [-]"] for r in rows} == {"1"} and {r["flags [text]"] for r in rows} == {""}
+    targets = read_csv(folder / "targets.csv")
+    assert {r["status"] for r in targets} <= {"reached", "search-range end", "not reachable"}
+
+
 @pytest.mark.parametrize("name", ["sulfuric_acid_converter", "shift_converters"])
 def test_first_bed_agrees_with_adiabatic_equilibrium(name, demo_runs):
     _, folder = demo_runs[name]
@@ -286,6 +304,7 @@ user_species:
   XQ:
     formula: NH3
     phase: gas
+    standard_pressure: 1 bar
     formation_data: {enthalpy: "-45.9 kJ/mol", entropy: "192.8 J/(mol K)", cp: "35 J/(mol K)"}
 """
 

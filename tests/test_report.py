@@ -168,6 +168,7 @@ def test_supplied_species_appear_with_their_source():
 user_species:
   NH3k:
     source: "invented reaction data for the report test"
+    standard_pressure: 1 bar
     reaction_data: {reaction: "N2 + 3 H2 = 2 NH3k", enthalpy: "-105 kJ/mol", K: 1.0e-4, at: "700 K"}
 """
     result = run_case(parse_case(text, "k.yaml"), coarse=True)

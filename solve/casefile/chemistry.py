@@ -76,6 +76,11 @@ def read_chemistry(doc, ck: Checker, db: SpeciesDatabase) -> Chemistry:
                 ck.add("chemistry.reactions", "give named reactions as 'name: \"A + B = C\"' lines or a list "
                        "of reaction texts", ck.line_of(chem, "reactions"))
                 chem_ok = False
+            if isinstance(rx, (Mapping, list)) and not items:
+                ck.add("chemistry.reactions", "is empty, which would let every species form; name at least one "
+                       "reaction, or remove the key (and only_named_reactions) for the all-species mode",
+                       ck.line_of(chem, "reactions"))
+                chem_ok = False
             for name, value, path, line in items:
                 if not isinstance(value, str):
                     ck.add(path, "a reaction is text such as 'N2 + 3 H2 = 2 NH3'", line)

@@ -40,7 +40,8 @@ PRESSURE_OPTION_KEYS = ("temperatures", "gas_models")
 BEDS_KEYS = ("inlet_temperature", "beds", "target", "pressure", "interstage_removal")
 CARBON_KEYS = ("feed_ratio", "pressure", "temperature")
 OUTPUT_KEYS = ("plots", "tables", "report")
-USER_SPECIES_KEYS = ("formula", "phase", "source", "critical", "formation_data", "reaction_data")
+USER_SPECIES_KEYS = ("formula", "phase", "source", "standard_pressure", "critical", "formation_data",
+                     "reaction_data")
 FORMATION_KEYS = ("enthalpy", "entropy", "cp", "valid", "uncertainty")
 REACTION_DATA_KEYS = ("reaction", "enthalpy", "entropy", "K", "at", "cp_change", "valid", "uncertainty")
 #: Standard uncertainties a species of the case file may carry (formation or reaction data).

@@ -204,6 +204,10 @@ def _interstage_removal(ck, m, path: str, n_max: int, ctx) -> dict | None:
             if resolved not in ctx.species:
                 ck.add(bpath, f"{resolved} is not a species of the system", line)
                 return None
+            if ctx.key is not None and resolved == ctx.key:
+                ck.add(bpath, f"{resolved} is the key reactant: removing it between beds would count the removed "
+                       "amount as converted; remove a product (or an inert) instead", line)
+                return None
             try:
                 f = fraction(frac)
             except UnitError as exc:

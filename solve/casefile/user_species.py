@@ -2,13 +2,14 @@
 """
 from __future__ import annotations
 
+import math
 from dataclasses import replace
 from typing import Mapping
 
 
 from ...thermo.database import DatabaseError, SpeciesDatabase, UnknownSpeciesError, species_from_mapping
 from ...thermo.elements import molar_mass as molar_mass_of, parse_formula
-from ...thermo.models import T_REF
+from ...thermo.models import R, T_REF
 from ...thermo.reactions import ReactionDerivedModel, ReactionError, ReactionLevelData, reaction_terms
 from ...thermo.species import CriticalConstants, Species
 from ...thermo.units import UnitError, excerpt, pure_number
@@ -44,6 +45,9 @@ def read_user_species(doc, ck: Checker, base_db: SpeciesDatabase) -> list[UserSp
                    "its ΔrH°, ΔrS° or K)", line)
             continue
         source = ck.text(sec, "source", f"{path}.source")
+        p_std = _standard_pressure(ck, sec, path, line)
+        if p_std is None:
+            continue
         phase = str(sec.get("phase", "gas"))
         if phase not in ("gas", "solid", "liquid"):
             ck.add(f"{path}.phase", f"{excerpt(phase)} is not gas, solid or liquid", ck.line_of(sec, "phase"))
@@ -65,12 +69,36 @@ def read_user_species(doc, ck: Checker, base_db: SpeciesDatabase) -> list[UserSp
                 continue
             critical = CriticalConstants(tc, pc, om, source)
         if has_f:
-            rec = _formation_species(ck, sec, name, path, phase, source, critical)
+            rec = _formation_species(ck, sec, name, path, phase, source, critical, p_std)
         else:
-            rec = _reaction_species(ck, sec, name, path, phase, source, critical, base_db)
+            rec = _reaction_species(ck, sec, name, path, phase, source, critical, base_db, p_std)
         if rec is not None:
             out.append(rec)
     return out
+
+
+#: The standard pressures a user's data may be on [Pa], and their names.
+USER_STANDARD_PRESSURES = {1e5: "1 bar", 101325.0: "1 atm"}
+
+
+def _standard_pressure(ck, sec, path, line) -> float | None:
+    """The standard pressure of the user's data [Pa]: 1e5 (1 bar) or 101325 (1 atm); required,
+    because data on 1 atm read as 1 bar shift K by 1.01325^Δn (2.6 % for ammonia synthesis)."""
+    if "standard_pressure" not in sec:
+        ck.add(path, "missing key 'standard_pressure'; say on which standard state the data are: "
+               "standard_pressure: 1 bar (NIST-JANAF since 1982, NASA polynomials) or standard_pressure: 1 atm "
+               "(older tables)", line)
+        return None
+    p = ck.quantity(sec, "standard_pressure", f"{path}.standard_pressure", "pressure", positive=True)
+    if p is None:
+        return None
+    for known in USER_STANDARD_PRESSURES:
+        if abs(p - known) <= 1e-6 * known:
+            return known
+    ck.add(f"{path}.standard_pressure", f"{excerpt(sec['standard_pressure'])} is neither 1 bar nor 1 atm; give the "
+           "standard pressure of your source, standard_pressure: 1 bar or standard_pressure: 1 atm",
+           ck.line_of(sec, "standard_pressure"))
+    return None
 
 
 def _valid_range(ck, sec, path, default):
@@ -105,7 +133,9 @@ def _cp_coefficients(ck, parent, key, path) -> tuple | None:
     return None if v is None else (v,)
 
 
-def _formation_species(ck, sec, name, path, phase, source, critical) -> UserSpeciesRecord | None:
+def _formation_species(ck, sec, name, path, phase, source, critical, p_std) -> UserSpeciesRecord | None:
+    """A species from its formation data; a gas's S° on 1 atm is moved to 1 bar
+    (S°(1 bar) = S°(1 atm) + R ln 1.01325) by the database reader."""
     fpath = f"{path}.formation_data"
     f = ck.section(sec, "formation_data", fpath, FORMATION_KEYS, ("enthalpy", "entropy", "cp"), what="formation-data")
     if f is None or not all(k in f for k in ("enthalpy", "entropy", "cp")):
@@ -128,15 +158,23 @@ def _formation_species(ck, sec, name, path, phase, source, critical) -> UserSpec
              "thermo": {"model": "formation-data", "formation_enthalpy": dh, "entropy": s, "cp": list(cp),
                         "T_bounds": list(bounds), "reference": "CASE"}}
     try:
-        sp = species_from_mapping(name, entry, {"CASE": {"cite": source, "standard_pressure_Pa": 1e5}}, ck.file)
+        sp = species_from_mapping(name, entry, {"CASE": {"cite": source, "standard_pressure_Pa": p_std}}, ck.file)
     except DatabaseError as exc:
         ck.add(f"{path}.formula", str(exc).split(": ", 2)[-1], ck.line_of(sec, "formula"))
         return None
     if critical is not None:
         sp = _with_critical(sp, critical)
     detail = (f"ΔfH°(298.15 K) = {dh / 1000:g} kJ/mol, S° = {s:g} J/(mol K), cp coefficients {list(cp)}, "
-              f"valid {bounds[0]:g}-{bounds[1]:g} K" + _uncertainty_detail(unc))
+              f"valid {bounds[0]:g}-{bounds[1]:g} K" + _standard_state_detail(p_std, phase == "gas")
+              + _uncertainty_detail(unc))
     return UserSpeciesRecord(name, "formation data", source, detail, sp, unc)
+
+
+def _standard_state_detail(p_std: float, converted: bool) -> str:
+    name = USER_STANDARD_PRESSURES[p_std]
+    if p_std == 1e5:
+        return f"; standard state {name}"
+    return f"; standard state {name}" + (", converted to 1 bar" if converted else " (no change for this phase)")
 
 
 _UNCERTAINTY_SYMBOLS = {"formation_enthalpy": ("ΔfH°", 1000.0, "kJ/mol"), "entropy": ("S°", 1.0, "J/(mol K)"),
@@ -236,7 +274,10 @@ def _reaction_formula(ck, sec, r, name, path, rpath, db) -> tuple | None:
     return partners, nu_x, elements, formula
 
 
-def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserSpeciesRecord | None:
+def _reaction_species(ck, sec, name, path, phase, source, critical, db, p_std) -> UserSpeciesRecord | None:
+    """A species from the data of a reaction forming it; data on 1 atm are moved to 1 bar:
+    K(1 bar) = K(1 atm) × 1.01325^Δn and ΔrS°(1 bar) = ΔrS°(1 atm) + Δn R ln 1.01325 (Δn: change
+    in gas moles; IUPAC Green Book on the standard-pressure change, from memory)."""
     rpath = f"{path}.reaction_data"
     r = ck.section(sec, "reaction_data", rpath, REACTION_DATA_KEYS, ("reaction", "enthalpy"), what="reaction-data")
     if r is None or "reaction" not in r or "enthalpy" not in r:
@@ -276,18 +317,20 @@ def _reaction_species(ck, sec, name, path, phase, source, critical, db) -> UserS
         if not K > 0:
             ck.add(f"{rpath}.K", f"{excerpt(r['K'])}: an equilibrium constant is positive", ck.line_of(r, "K"))
             return None
-        level = ReactionLevelData.from_K(K, t_ref, dh, delta_cp=dcp, T_bounds=bounds, delta_n_gas=dn, text=text)
         shown = f"K = {K:g} at {t_ref:g} K"
+        K = K * (p_std / 1e5) ** dn                      # to the 1 bar standard state
+        level = ReactionLevelData.from_K(K, t_ref, dh, delta_cp=dcp, T_bounds=bounds, delta_n_gas=dn, text=text)
     else:
         ds = ck.quantity(r, "entropy", f"{rpath}.entropy", "molar_entropy")
         if ds is None:
             return None
-        level = ReactionLevelData(dh, ds, t_ref, tuple(dcp), tuple(bounds), dn, text)
         shown = f"ΔrS° = {ds:g} J/(mol K) at {t_ref:g} K"
+        ds = ds + dn * R * math.log(p_std / 1e5)          # to the 1 bar standard state
+        level = ReactionLevelData(dh, ds, t_ref, tuple(dcp), tuple(bounds), dn, text)
     model = ReactionDerivedModel(level, tuple(partners), nu_x)
     sp = Species(name=name, formula=formula, elements=elements, phase=phase,
                  molar_mass=molar_mass_of(elements), model=model, critical=critical, reference=source,
                  data_note=f"derived from reaction data: {text}")
     detail = (f"{text}: ΔrH° = {dh / 1000:g} kJ/mol, {shown}, ΔrCp coefficients {list(dcp)}, valid "
-              f"{model.T_min:g}-{model.T_max:g} K" + _uncertainty_detail(unc))
+              f"{model.T_min:g}-{model.T_max:g} K" + _standard_state_detail(p_std, dn != 0) + _uncertainty_detail(unc))
     return UserSpeciesRecord(name, "reaction data", source, detail, sp, unc)

@@ -21,7 +21,7 @@ import numpy as np
 from ...thermo.database import SpeciesDatabase
 from ...thermo.models import Nasa7Polynomial, Nasa7Table, P_STANDARD, R
 from ...thermo.reactions import bundled_database
-from ...thermo.species import standard_gibbs_RT
+from ...thermo.species import ExtrapolationWarning, standard_gibbs_RT
 from . import compiled as compiled_core
 from .fugacity import FugacityModel
 from .inputs import (broadcast_shape, feed_mapping, mapping_or_none, positive_number, pressures, quantity,
@@ -34,7 +34,8 @@ from .result import (CondensationWarning, EquilibriumInputError, EquilibriumResu
 
 
 def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, tolerance, max_iterations):
-    """Run the compiled fixed-enthalpy kernel on one group; returns (CoreOutcome, T)."""
+    """Run the compiled fixed-enthalpy kernel on one group; returns (CoreOutcome, T, beyond):
+    ``beyond`` marks states whose solution lies outside the data range (refused, T NaN)."""
     if compiled_core is None or not all(isinstance(sp.model, Nasa7Polynomial) for sp in records):
         raise EquilibriumInputError("fixed-enthalpy solves need NASA-polynomial data for every "
                                     "species; use adiabatic_equilibrium for other data")
@@ -55,12 +56,14 @@ def _solve_fixed_enthalpy(records, A_gas, A_cond, b, ln_p, h0, T_start, toleranc
     T = np.exp(ln_T)
     lo = max(sp.T_min for sp in records)
     hi = min(sp.T_max for sp in records)
-    converged &= (T >= lo - 2.0) & (T <= hi)      # never an answer outside every species' data
+    inside = (T >= lo - 2.0) & (T <= hi)
+    beyond = np.isfinite(T) & ~inside            # solved (or heading) beyond the data
+    converged &= inside                           # never an answer outside every species' data
     out = CoreOutcome(gas=np.exp(state.ln_gas), cond=np.where(state.present, state.cond, 0.0),
                       present=state.present.copy(), potentials=state.potentials.copy(),
                       converged=converged, iterations=iterations.astype(int), residual=residual,
                       state=state)
-    return out, np.where(converged, T, np.nan)
+    return out, np.where(converged, T, np.nan), beyond
 
 
 def _read_states(db, species, feed, T, P, rxns, g0_shift, enthalpy, gas_model):
@@ -126,7 +129,8 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 binary_interaction: Mapping | None = None, initial: EquilibriumResult | None = None,
                 tolerance: float = 1e-11, max_iterations: int = 300,
                 g0_shift: Mapping[str, object] | None = None,
-                enthalpy=None, warn: bool = True) -> EquilibriumResult:
+                enthalpy=None, warn: bool = True,
+                admit_out_of_range: bool = False) -> EquilibriumResult:
     """Equilibrium composition at fixed T and P by Gibbs-energy minimisation.
 
     The element-potential method of Gordon and McBride (NASA RP-1311, 1994) applied to an
@@ -167,6 +171,14 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
         for the general case).
     tolerance : float
         Convergence tolerance on Newton steps (in ln n) and relative conservation residual.
+    admit_out_of_range : bool
+        By default a condensed species is left out of the minimisation at every state whose
+        temperature lies outside its data range (``Species.valid_at``: [T_min - 2 K, T_max]),
+        so that no liquid is reported above the range of its record (e.g. above the critical
+        point) and no solid beyond its stability range.  True admits them; either way every
+        species used outside its range is flagged per state (``out_of_range_array``) and the
+        state is not ``trustworthy``.  A fed condensed species whose elements no other species
+        can carry stays in (flagged).
 
     Returns
     -------
@@ -201,7 +213,11 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     total_feed = n0.sum(axis=1)
 
     # standard chemical potentials, (p, ns)
-    g0 = standard_gibbs_RT(records, Tf)
+    # extrapolation warnings are held back and re-issued after the solve for the species
+    # actually used outside their range (a condensed species left out there is not)
+    with warnings.catch_warnings(record=True) as held:
+        warnings.simplefilter("always", ExtrapolationWarning)
+        g0 = standard_gibbs_RT(records, Tf)
     for name, shift in shift_arrays.items():
         if name not in names:
             raise EquilibriumInputError(f"g0_shift names {name!r}, which is not among the species")
@@ -229,22 +245,40 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
     iterations = np.zeros(n_points, dtype=int)
     residual = np.full(n_points, np.inf)
     present_feed = n0 > 0
-    codes = present_feed @ (1 << np.arange(ns, dtype=np.int64) % 62)   # pattern id per state
-    first = {}
-    for i, c in enumerate(codes[:1] if np.all(codes == codes[0]) else codes):
-        first.setdefault(int(c), i)
-    for code, i0 in first.items():
-        pattern = present_feed[i0]
-        rows = np.arange(n_points) if len(first) == 1 else np.flatnonzero(codes == code)
+    # condensed species outside their data range are left out where they are not valid (the
+    # fixed-enthalpy path learns T only from the solve: its T is bounded by every range instead)
+    valid = np.column_stack([np.asarray(sp.valid_at(Tf), dtype=bool).reshape(n_points) for sp in records])
+    excluded = (~valid & ~is_gas) if (Hf is None and not admit_out_of_range) else np.zeros_like(valid)
+    used = np.zeros((n_points, ns), dtype=bool)     # species in the minimisation at each state
+    beyond_data = np.zeros(n_points, dtype=bool)
+    # group states by the exact pattern (fed species, excluded condensed species): the
+    # reachable set and the conservation rows depend only on that
+    patterns, group_of = _exact_patterns(np.concatenate([present_feed, excluded], axis=1))
+    for g, key_row in enumerate(patterns):
+        pattern, left_out = key_row[:ns], key_row[ns:]
+        rows = np.arange(n_points) if len(patterns) == 1 else np.flatnonzero(group_of == g)
         reach = reachable_species(C, pattern.astype(float), nonneg)
+        scale = total_feed[rows]
+        b = basis = None
+        if left_out.any():
+            # conservation of the full feed (fed condensed species included) by the rest
+            keep = reach & ~left_out
+            cols = np.concatenate([np.flatnonzero(keep & is_gas), np.flatnonzero(keep & ~is_gas)])
+            basis, b, feasible = _conserved_by(C, cols, n0[rows] / scale[:, None])
+            if not feasible:          # the feed's elements need a left-out fed species: keep it
+                left_out = left_out & ~pattern
+                basis = b = None
+            reach &= ~left_out
+            excluded[rows] &= left_out
         gas_cols = np.flatnonzero(reach & is_gas)
         cond_cols = np.flatnonzero(reach & ~is_gas)
         if gas_cols.size == 0:
             raise EquilibriumInputError("no gas species can be present; add a gas species")
         cols = np.concatenate([gas_cols, cond_cols])
-        basis = row_basis(C[:, cols])
-        scale = total_feed[rows]
-        b = (n0[rows][:, cols] / scale[:, None]) @ basis.T
+        used[np.ix_(rows, cols)] = True
+        if basis is None:
+            basis = row_basis(C[:, cols])
+            b = (n0[rows][:, cols] / scale[:, None]) @ basis.T
         A_gas = basis[:, :gas_cols.size]
         A_cond = basis[:, gas_cols.size:]
         state = None
@@ -264,12 +298,15 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
             def fug(sub, y, _gi=gas_index, _T=Tg, _P=Pg):
                 return eos.ln_phi(_T[sub], _P[sub], y, _gi)
         if Hf is not None:
-            out, T_solved = _solve_fixed_enthalpy([records[c] for c in cols], A_gas, A_cond, b,
+            out, T_solved, beyond_data[rows] = _solve_fixed_enthalpy([records[c] for c in cols], A_gas, A_cond, b,
                                                   np.log(Pf[rows] / P_STANDARD),
                                                   Hf[rows] / (R * scale), Tf[rows], tolerance,
                                                   max_iterations)
             Tf[rows] = T_solved
-            g0[rows] = standard_gibbs_RT(records, T_solved)
+            with warnings.catch_warnings(record=True) as held_h:
+                warnings.simplefilter("always", ExtrapolationWarning)
+                g0[rows] = standard_gibbs_RT(records, T_solved)
+            held.extend(held_h)
         else:
             out = minimise_gibbs(g0[rows][:, gas_cols], g0[rows][:, cond_cols], A_gas, A_cond, b,
                                  np.log(Pf[rows] / P_STANDARD), state=state, fugacity=fug,
@@ -307,8 +344,44 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
                 lp[np.ix_(np.flatnonzero(ok), gas_cols)] = eos.ln_phi(Tg[ok], Pg[ok], y, gas_index)
                 dense[rows[ok]] = eos.condensation_possible(Tg[ok], Pg[ok], y, gas_index)
             ln_phi_all[rows] = lp
+    # every conserved quantity (element or reaction invariant) to 0.1 % of its own size: a
+    # trace element far below the solver's resolution (relative to the whole feed) is lost,
+    # and that state is not an answer
+    with np.errstate(invalid="ignore", divide="ignore"):
+        drift = np.abs(np.nan_to_num(amounts - n0) @ C.T)
+        size = (n0 + np.nan_to_num(amounts)) @ np.abs(C).T
+        lost = converged & np.any(drift > 1e-3 * size + 1e-300, axis=1)
+    if lost.any():
+        converged &= ~lost
+        amounts[lost] = np.nan
     n_bad = int(n_points - converged.sum())
     message = "all states converged" if n_bad == 0 else f"{n_bad} of {n_points} state(s) did not converge (NaN)"
+    if lost.any():
+        message += (f"; {int(lost.sum())} state(s) lose a conserved quantity (an element or reaction invariant "
+                    "fed in a trace amount below the solver's resolution): raise its amount or leave it out")
+    # species used outside their data range, per state (T of the solve on the enthalpy path)
+    valid_solved = np.column_stack([np.asarray(sp.valid_at(Tf), dtype=bool).reshape(n_points)
+                                    for sp in records])
+    cond_used = np.where(is_gas, True, np.nan_to_num(amounts) > 0)
+    out_of_range = used & ~valid_solved & converged[:, None] & cond_used
+    if beyond_data.any():    # fixed-enthalpy states whose temperature left the data: refused
+        message += (f"; {int(beyond_data.sum())} fixed-enthalpy state(s) reach a temperature outside "
+                    "the data range of the species (not an answer)")
+    used_outside = {names[j] for j in np.flatnonzero(out_of_range.any(axis=0))}
+    for w in held:
+        if not issubclass(w.category, ExtrapolationWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+        elif str(w.message).split(":")[0] in used_outside:
+            warnings.warn(str(w.message), ExtrapolationWarning, stacklevel=2)
+    if out_of_range.any():
+        bad_names = [names[j] for j in np.flatnonzero(out_of_range.any(axis=0))]
+        note = (f"{int(out_of_range.any(axis=1).sum())} state(s) use species outside their data "
+                f"range ({', '.join(bad_names)}): not trustworthy")
+        message += "; " + note
+    if excluded.any():
+        left = [names[j] for j in np.flatnonzero(excluded.any(axis=0))]
+        message += (f"; condensed species left out outside their data range at "
+                    f"{int(excluded.any(axis=1).sum())} state(s) ({', '.join(left)})")
     if n_bad and warn:
         warnings.warn(message, NotConvergedWarning, stacklevel=2)
     if dense.any():
@@ -327,4 +400,32 @@ def equilibrium(species: Sequence[str], feed: Mapping[str, object], T, P, *,
         gas_model=gas_model,
         ln_phi_array=None if ln_phi_all is None else ln_phi_all.reshape(shape + (ns,)),
         key=db.resolve(key) if key else None, message=message,
-        condensation_possible=dense.reshape(shape) if eos is not None else None)
+        condensation_possible=dense.reshape(shape) if eos is not None else None,
+        out_of_range_array=out_of_range.reshape(shape + (ns,)),
+        excluded_array=excluded.reshape(shape + (ns,)))
+
+
+def _exact_patterns(key: np.ndarray):
+    """The distinct rows of a boolean matrix (p, k) and the group of each row: (patterns
+    (g, k), group index (p,)).  Rows are compared bit for bit (packed bits), so no two
+    patterns share a group however many columns there are."""
+    if np.all(key == key[:1]):
+        return key[:1], np.zeros(key.shape[0], dtype=np.intp)
+    packed = np.ascontiguousarray(np.packbits(key, axis=1))
+    rows = packed.view(np.dtype((np.void, packed.shape[1]))).ravel()
+    _, first, group_of = np.unique(rows, return_index=True, return_inverse=True)
+    return key[first], group_of.reshape(-1)
+
+
+def _conserved_by(C, cols, n0):
+    """Conservation rows over the species ``cols`` for the full feed ``n0`` (p, ns) [mol]:
+    (basis, b (p, rank), feasible).  Feasible where ``C n0`` lies in the span of ``C[:, cols]``
+    (the kept species can carry every conserved quantity of the feed)."""
+    U, S, Vt = np.linalg.svd(C[:, cols], full_matrices=False)
+    rank = int(np.sum(S > 1e-10 * max(S.max(initial=0.0), 1.0)))
+    target = n0 @ C.T                                         # (p, m)
+    b = (target @ U[:, :rank]) / S[:rank]
+    back = (b * S[:rank]) @ U[:, :rank].T
+    feasible = bool(np.all(np.abs(target - back) <= 1e-9 * np.maximum(np.abs(target).max(axis=1,
+                                                                                          keepdims=True), 1e-300)))
+    return Vt[:rank], b, feasible

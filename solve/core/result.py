@@ -73,6 +73,13 @@ class EquilibriumResult:
         Peng-Robinson only: True where the equation of state has a liquid-like root more
         stable than the vapour root at the equilibrium composition (the gas may condense;
         the gas-phase answer there is a metastable vapour).
+    out_of_range_array : ndarray of bool or None, shape (*shape, n_species)
+        True where a species was used outside its data range (``Species.valid_at``:
+        [T_min - 2 K, T_max]) at a converged state: a gas in the mixture, a condensed
+        species present.  Such a state is not ``trustworthy``.
+    excluded_array : ndarray of bool or None, shape (*shape, n_species)
+        True where a condensed species was left out of the minimisation because the state
+        lies outside its data range (the default of :func:`equilibrium`).
     """
 
     species: tuple
@@ -91,6 +98,8 @@ class EquilibriumResult:
     key: str | None = None
     message: str = ""
     condensation_possible: np.ndarray | None = field(default=None, repr=False)
+    out_of_range_array: np.ndarray | None = field(default=None, repr=False)
+    excluded_array: np.ndarray | None = field(default=None, repr=False)
 
     # ----------------------------------------------------------------- shapes
     @property
@@ -104,6 +113,49 @@ class EquilibriumResult:
     @property
     def all_converged(self) -> bool:
         return bool(np.all(self.converged))
+
+    # ----------------------------------------------------------------- validity
+    @property
+    def out_of_range(self) -> dict:
+        """Species name -> bool per state: used outside its data range (only species that are,
+        somewhere)."""
+        if self.out_of_range_array is None:
+            return {}
+        flags = np.asarray(self.out_of_range_array, dtype=bool)
+        return {name: (bool(flags[..., k]) if flags[..., k].ndim == 0 else flags[..., k])
+                for k, name in enumerate(self.species) if flags[..., k].any()}
+
+    @property
+    def trustworthy(self) -> np.ndarray:
+        """Per state: converged, no species used outside its data range, and (Peng-Robinson)
+        no more stable liquid-like root.  A bool for a single state."""
+        ok = np.asarray(self.converged, dtype=bool).copy()
+        if self.out_of_range_array is not None:
+            ok &= ~np.asarray(self.out_of_range_array, dtype=bool).any(axis=-1)
+        if self.condensation_possible is not None:
+            ok &= ~np.asarray(self.condensation_possible, dtype=bool)
+        return bool(ok) if ok.ndim == 0 else ok
+
+    def state_flags(self) -> np.ndarray:
+        """Per state, a short text of what makes it untrustworthy ("" where nothing does):
+        "not converged", "outside data range: H2O(l)", "condensation possible",
+        joined with "; ".  Array of str of ``shape`` (a str for a single state)."""
+        conv = np.asarray(self.converged, dtype=bool).reshape(-1)
+        p = conv.size
+        oor = (np.zeros((p, len(self.species)), dtype=bool) if self.out_of_range_array is None
+               else np.asarray(self.out_of_range_array, dtype=bool).reshape(p, -1))
+        dense = (np.zeros(p, dtype=bool) if self.condensation_possible is None
+                 else np.asarray(self.condensation_possible, dtype=bool).reshape(-1))
+        texts = []
+        for i in range(p):        # text for output tables, not a solve path
+            parts = [] if conv[i] else ["not converged"]
+            if oor[i].any():
+                parts.append("outside data range: " + ", ".join(n for n, f in zip(self.species, oor[i]) if f))
+            if dense[i]:
+                parts.append("condensation possible")
+            texts.append("; ".join(parts))
+        out = np.array(texts, dtype=object).reshape(self.shape)
+        return str(out) if out.ndim == 0 else out
 
     # ----------------------------------------------------------------- amounts
     @property

@@ -18,7 +18,7 @@ from ..casefile.schema import Case
 from ..studies.feeds import FeedRatio
 from ..core.result import CondensationWarning, NotConvergedWarning
 from ..studies.maps import conversion_map
-from .records import FigureRecord, SolverCheck, Table, UncertaintyRecord
+from .records import Caution, FigureRecord, SolverCheck, Table, UncertaintyRecord
 
 #: Reduced resolution (``coarse=True``): at most this many temperatures in a grid.
 COARSE_POINTS = 13
@@ -133,6 +133,7 @@ class RunContext:
         self.bands: list = []                    # Band per pressure option (data uncertainty)
         self.intervals: list = []                # (TemperatureUncertainty, index, colour) per temperature answer
         self.uncertainty_record: UncertaintyRecord | None = None
+        self.cautions: list[Caution] = []        # case-specific cautions (kind, where, text)
 
     def study(self, name: str) -> StudyTimer:
         """Time a study and record its warnings: ``with run.study("conversion map"): ...``."""
@@ -183,6 +184,62 @@ class RunContext:
             largest = float(np.max(np.asarray(m.max_residual).reshape(-1)[ok]))
             note = f"Newton iterations up to {int(np.max(np.asarray(m.iterations).reshape(-1)[ok]))}"
         self.checks.append(SolverCheck(label, int(ok.size), int(ok.size - ok.sum()), largest, note))
+        self.caution_flags(label, m)
+        self.caution_carbon(label, m)
+
+    def add_caution(self, kind: str, where: str, text: str) -> None:
+        """Add a :class:`Caution` once (the same kind, place and text are not repeated)."""
+        c = Caution(kind, where, text)
+        if c not in self.cautions:
+            self.cautions.append(c)
+
+    def caution_flags(self, label: str, m) -> None:
+        """Cautions for converged map points that are not trustworthy: species used outside
+        their data range ("extrapolation"), possible condensation ("condensation")."""
+        if getattr(m, "trustworthy", None) is None:
+            return
+        ok = np.asarray(m.converged, dtype=bool).reshape(-1)
+        bad = ok & ~np.asarray(m.trustworthy, dtype=bool).reshape(-1)
+        if not bad.any():
+            return
+        flags = np.asarray(m.flags, dtype=object).reshape(-1)[bad]
+        T = np.broadcast_to(m.T, m.shape).reshape(-1)[bad]
+        span = f"{T.min() - 273.15:.0f}-{T.max() - 273.15:.0f} degC"
+        outside = sorted({n.strip() for f in flags for part in str(f).split("; ")
+                          if part.startswith("outside data range: ") for n in part[20:].split(",")})
+        if outside:
+            self.add_caution("extrapolation", label,
+                             f"{int(bad.sum())} of {ok.size} points ({span}) use species outside their data range "
+                             f"({', '.join(outside)}): those results are extrapolated and not trustworthy "
+                             "(trustworthy 0 and the flags column in the CSV).")
+        if any("condensation possible" in str(f) for f in flags):
+            self.add_caution("condensation", label,
+                             f"At some points ({span}) the gas may condense (a liquid-like root of the equation "
+                             "of state is more stable): the gas-phase equilibrium does not apply there.")
+
+    def caution_carbon(self, label: str, m) -> None:
+        """In restricted-reaction cases with carbon-bearing gases: the largest graphite activity,
+        and a "carbon" caution where it exceeds 1 (carbon can form by a route the named
+        reactions exclude)."""
+        a_C = getattr(m, "carbon_activity", None)
+        if a_C is None or not self.case.solver_reactions:
+            return
+        a = np.asarray(a_C, dtype=float).reshape(-1)
+        if not np.isfinite(a).any():
+            return
+        largest = float(np.nanmax(a))
+        T = np.broadcast_to(m.T, m.shape).reshape(-1)
+        if largest > 1.0:
+            over = np.nan_to_num(a) > 1.0
+            self.add_caution("carbon", label,
+                             f"Graphite activity up to {largest:.3g} (above 1 at {int(over.sum())} of {a.size} points, "
+                             f"{T[over].min() - 273.15:.0f}-{T[over].max() - 273.15:.0f} degC): carbon can form by a "
+                             "route the named reactions exclude; the catalyst and the kinetics must suppress it.")
+        else:
+            text = (f"{label}: the largest graphite activity is {largest:.3g}, below 1: graphite is not stable at "
+                    "any point, so the named reactions exclude no carbon route.")
+            if text not in self.findings:
+                self.findings.append(text)
 
     def add_table(self, table: Table) -> None:
         self.tables.append(table)

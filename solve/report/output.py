@@ -222,6 +222,7 @@ def run_summary(result: RunResult) -> dict:
         "largest_residual": None if not np.isfinite(result.largest_residual) else result.largest_residual,
         "extrapolations": result.extrapolations,
         "findings": result.findings,
+        "cautions": [{"kind": c.kind, "where": c.where, "text": c.text} for c in result.cautions],
         "tables": [f"{t.name}.csv" for t in result.tables] if case.output.tables else [],
         "figures": [f"{f.name}.{fmt}" for f in result.figures for fmt in case.output.plot_formats],
         "uncertainty": _uncertainty_summary(result.uncertainty),

@@ -72,7 +72,8 @@ def run_case(case: Case, *, coarse: bool = False, progress: ProgressFactory | No
     return RunResult(case=case, started=started, elapsed=time.perf_counter() - t0, coarse=coarse,
                      tables=run.tables, figures=run.figures, findings=run.findings, checks=run.checks,
                      extrapolations=rec.extrapolations, notes=run.notes + rec.not_converged,
-                     T_used=(rec.T_min, rec.T_max), study_times=run.times, uncertainty=run.uncertainty_record)
+                     T_used=(rec.T_min, rec.T_max), study_times=run.times, uncertainty=run.uncertainty_record,
+                     cautions=run.cautions)
 
 
 def add_provenance_table(run: RunContext) -> None:

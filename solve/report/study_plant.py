@@ -99,6 +99,9 @@ def run_staged_beds(run: RunContext) -> None:
                          note=res.message))
     d = res.diagram
     for b in res.beds:
+        if b.flags:
+            run.add_caution("extrapolation" if "outside data range" in b.flags else "model",
+                            f"staged beds, bed {b.bed}", f"The outlet of bed {b.bed} is not trustworthy ({b.flags}).")
         run.rec.temperatures([b.inlet_T, b.outlet_T])
     if d.bed_lines:
         fig = plots.conversion_temperature_diagram(d.equilibrium_curves, d.bed_lines, d.cooling_lines,

@@ -58,6 +58,9 @@ def long_table(name: str, title: str, m, case: Case, ratio=None) -> Table:
         data.append(np.asarray(m.carbon_activity).reshape(-1))
     cols.append("converged [-]")
     data.append(np.asarray(m.converged).reshape(-1).astype(int))
+    if getattr(m, "trustworthy", None) is not None:
+        cols += ["trustworthy [-]", "flags [text]"]
+        data += [np.asarray(m.trustworthy).reshape(-1).astype(int), np.asarray(m.flags, dtype=object).reshape(-1)]
     rows = [list(r) for r in zip(*[np.asarray(d).tolist() for d in data])]
     return Table(name, title, cols, rows, in_report=False,
                  note="Long format, one row per grid point.")

@@ -113,6 +113,17 @@ class AdiabaticResult:
         """Conversion of a reactant at the outlet [-] (see EquilibriumResult.conversion)."""
         return self.equilibrium.conversion(key)
 
+    @property
+    def trustworthy(self):
+        """Per state: converged, and the outlet equilibrium uses no species outside its data
+        range (see :attr:`EquilibriumResult.trustworthy`)."""
+        ok = np.asarray(self.converged, dtype=bool) & np.asarray(self.equilibrium.trustworthy, dtype=bool)
+        return bool(ok) if ok.ndim == 0 else ok
+
+    def state_flags(self):
+        """Per state, what makes the outlet untrustworthy ("" where nothing does)."""
+        return self.equilibrium.state_flags()
+
 
 def _take(result: EquilibriumResult, rows: np.ndarray, p: int, **override) -> EquilibriumResult:
     """The states ``rows`` of a flat result of ``p`` states (every per-state array field)."""

@@ -64,6 +64,9 @@ class BedRecord:
         Species name -> amount [mol] entering and leaving the bed.
     iterations : int
         Equilibrium evaluations of the adiabatic solve.
+    flags : str
+        What makes the bed outlet untrustworthy ("" where nothing does; e.g. species used
+        outside their data range, :meth:`AdiabaticResult.state_flags`).
     """
 
     bed: int
@@ -76,6 +79,7 @@ class BedRecord:
     inlet_amounts: dict = field(repr=False)
     outlet_amounts: dict = field(repr=False)
     iterations: int = 0
+    flags: str = ""
 
 
 @dataclass(frozen=True)
@@ -291,6 +295,11 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
     else:
         planned = int(max_beds) if inlets is None else min(int(max_beds), len(inlets))
     plan = _removal_plan(interstage_removal, db)
+    for bed, fractions in plan.items():
+        if fractions.get(key, 0.0) > 0.0:
+            raise EquilibriumInputError(f"interstage removal of {key} after bed {bed}: {key} is the key reactant, "
+                                        "and removing it would count the removed amount as converted; remove a "
+                                        "product (or an inert) instead")
     common = dict(reactions=reactions, gas_model=gas_model, database=db,
                   binary_interaction=binary_interaction, approach=approach, warn=False)
 
@@ -341,7 +350,7 @@ def staged_converter(species: Sequence[str], feed: Mapping[str, object], P, key:
                               overall_conversion=float(overall), interstage_heat_removed=heat_removed,
                               removed=removed, inlet_amounts=dict(zip(sp, n_in.tolist())),
                               outlet_amounts=dict(zip(sp, n_out.tolist())),
-                              iterations=int(ad.iterations)))
+                              iterations=int(ad.iterations), flags=str(ad.state_flags())))
         if stop_now and n_beds is None:
             break
         current = dict(zip(sp, n_next.tolist()))

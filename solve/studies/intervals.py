@@ -403,6 +403,14 @@ def _inverse_interval(conversion_at, dX_dg, x0, reached, tg, T_eq, lo, hi, pm, *
     return out
 
 
+def _probe_temperature(T_eq, T_op) -> float:
+    """A temperature [K] for the probe solve that fixes the species and phases: the mean
+    equilibrium temperature of the answered questions, or the operating temperature where no
+    question was answered (its T_equilibrium is NaN: not reachable)."""
+    finite = np.asarray(T_eq, dtype=float)[np.isfinite(T_eq)]
+    return float(finite.mean()) if finite.size else float(np.nanmean(T_op))
+
+
 def _interval_message(method, samples, seed, found: dict, at_end_any: bool, messages) -> list:
     if method == "linear":
         msg = "linearised (implicit differentiation)"
@@ -464,7 +472,7 @@ def pressure_interval(species: Sequence[str], feed: Mapping[str, object], T, key
     reached = np.isfinite(P0) & ~at_end
     lo, hi = (math.log(float(to_pascal(v))) for v in P_range)
     key_r = db.resolve(key)
-    probe = equilibrium(species, feed, float(np.nanmean(T_eq)), math.exp(0.5 * (lo + hi)), reactions=reactions,
+    probe = equilibrium(species, feed, _probe_temperature(T_eq, T_op), math.exp(0.5 * (lo + hi)), reactions=reactions,
                         gas_model=gas_model, key=key_r, database=db, warn=False)
     system = batched_system(np.asarray(probe.feed_array, dtype=float)[None, :], list(probe.species),
                      probe.gas_mask, key=key_r, reactions=probe.reactions, gas_model=gas_model, database=db,
@@ -572,7 +580,7 @@ def feed_ratio_interval(species: Sequence[str], feed: Mapping[str, object], T, P
     key_r = db.resolve(key)
     base = {db.resolve(k): float(to_si(v, "amount")) for k, v in feed.items()}
     species_all = list(species) + ([spec.numerator] if spec.numerator not in species else [])
-    probe = equilibrium(species_all, spec.feed_at(base, np.exp(0.5 * (lo + hi)), db), float(np.nanmean(T_eq)),
+    probe = equilibrium(species_all, spec.feed_at(base, np.exp(0.5 * (lo + hi)), db), _probe_temperature(T_eq, T_op),
                         float(np.nanmean(P_c)), reactions=reactions, gas_model=gas_model, key=key_r, database=db,
                         warn=False)
     names = list(probe.species)

@@ -233,6 +233,12 @@ class TemperatureAnswer(InverseAnswer):
     P : float | ndarray
         Pressure [Pa].
     target, key, approach, message
+    trustworthy : bool | ndarray
+        The state at the answer is converged and uses no species outside its data range
+        (False where there is no answer).
+    flags : str | ndarray of str
+        What makes that state untrustworthy ("" where nothing does, "no answer" where there
+        is none; :meth:`EquilibriumResult.state_flags`).
     value, unit, status, shape
         The shared answer shape (:class:`~eqdesign.solve.studies.answers.InverseAnswer`):
         ``value`` is ``T``, ``unit`` ``"K"``, ``status`` per question ``"reached"``,
@@ -255,6 +261,8 @@ class TemperatureAnswer(InverseAnswer):
     key: str = ""
     approach: float | None = None
     message: object = ""
+    trustworthy: object = None
+    flags: object = None
 
 
 @dataclass(frozen=True)
@@ -283,6 +291,8 @@ class PressureAnswer(InverseAnswer):
     key: str = ""
     approach: float | None = None
     message: object = ""
+    trustworthy: object = None
+    flags: object = None
 
 
 @dataclass(frozen=True)
@@ -314,6 +324,8 @@ class FeedRatioAnswer(InverseAnswer):
     key: str = ""
     approach: float | None = None
     message: object = ""
+    trustworthy: object = None
+    flags: object = None
 
 
 # =========================================================================== questions
@@ -390,7 +402,7 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
     search = inverse_search(evaluate, np.full(S, lo), np.full(S, hi), tg, n_scan=n_scan, utol=1e-4,
                              rtol=1e-6, from_u=lambda u: u)
     T_ans = search.value
-    conv_at, T_eq = _at_answers(names, lambda idx: feed_c, np.nan_to_num(T_ans, nan=lo), P_c, T_ans, key=key,
+    conv_at, T_eq, trusted, flags = _at_answers(names, lambda idx: feed_c, np.nan_to_num(T_ans, nan=lo), P_c, T_ans, key=key,
                                 rxns=rxns, gas_model=gas_model, dT=dT, db=db)
     conditions = [f"at {_bar(p)}" for p in P_c]
     msgs = _messages(search, _TEMPERATURE, key, tg, conditions, lo, hi, lambda u: u, dT)
@@ -401,16 +413,20 @@ def temperature_for_conversion(species: Sequence[str], feed: Mapping[str, object
         best_T=shape_out(search.best_value, shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
         T_equilibrium=shape_out(T_eq, shape), P=shape_out(P_c, shape), target=shape_out(tg, shape),
-        key=key, approach=dT, message=_object_array(msgs, shape))
+        key=key, approach=dT, message=_object_array(msgs, shape),
+        trustworthy=shape_out(trusted, shape), flags=_object_array(list(flags), shape))
 
 
 def _at_answers(names, feed, T_op, P, value, *, key, rxns, gas_model, dT, db):
-    """Conversion and equilibrium temperature at the answers (one batched solve over the
-    questions that have an answer).  ``feed``: callable idx -> feed mapping."""
+    """Conversion, equilibrium temperature, trustworthiness and flags at the answers (one
+    batched solve over the questions that have an answer; "no answer" and untrustworthy where
+    there is none).  ``feed``: callable idx -> feed mapping."""
     S = value.size
     ok = np.isfinite(value)
     conv = np.full(S, np.nan)
     T_eq = np.full(S, np.nan)
+    trusted = np.zeros(S, dtype=bool)
+    flags = np.full(S, "no answer", dtype=object)
     if ok.any():
         idx = np.flatnonzero(ok)
         f = {k: np.broadcast_to(np.asarray(v, dtype=float), idx.shape) for k, v in feed(idx).items()}
@@ -418,7 +434,9 @@ def _at_answers(names, feed, T_op, P, value, *, key, rxns, gas_model, dT, db):
                               approach=dT, database=db)
         conv[idx] = res.conversion(key)
         T_eq[idx] = res.T
-    return conv, T_eq
+        trusted[idx] = res.trustworthy
+        flags[idx] = res.state_flags()
+    return conv, T_eq, trusted, flags
 
 
 def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], T, key: str, target, *,
@@ -475,7 +493,7 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
     search = inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
                              utol=1e-7, rtol=1e-6, from_u=np.exp)
     P_ans = _snap(np.exp(search.value), lo, hi)
-    conv_at, T_eq = _at_answers(names, lambda idx: feed_c, T_c, np.nan_to_num(P_ans, nan=lo), P_ans, key=key,
+    conv_at, T_eq, trusted, flags = _at_answers(names, lambda idx: feed_c, T_c, np.nan_to_num(P_ans, nan=lo), P_ans, key=key,
                                 rxns=rxns, gas_model=gas_model, dT=dT, db=db)
     conditions = [f"at {_num(t, 2)} K" for t in T_c]
     msgs = _messages(search, _PRESSURE, key, tg, conditions, lo, hi, lambda u: _snap(np.exp(u), lo, hi), dT)
@@ -486,7 +504,8 @@ def pressure_for_conversion(species: Sequence[str], feed: Mapping[str, object], 
         best_P=shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
         T=shape_out(T_c, shape), T_equilibrium=shape_out(T_eq, shape), target=shape_out(tg, shape),
-        key=key, approach=dT, message=_object_array(msgs, shape))
+        key=key, approach=dT, message=_object_array(msgs, shape),
+        trustworthy=shape_out(trusted, shape), flags=_object_array(list(flags), shape))
 
 
 def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object], T, P, key: str, target, *,
@@ -555,7 +574,7 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
     search = inverse_search(evaluate, np.full(S, np.log(lo)), np.full(S, np.log(hi)), tg, n_scan=n_scan,
                              utol=1e-7, rtol=1e-6, from_u=np.exp)
     r_ans = _snap(np.exp(search.value), lo, hi)
-    conv_at, T_eq = _at_answers(names, lambda idx: spec.feed_at(base, r_ans[idx], db), T_c, P_c, r_ans, key=key,
+    conv_at, T_eq, trusted, flags = _at_answers(names, lambda idx: spec.feed_at(base, r_ans[idx], db), T_c, P_c, r_ans, key=key,
                                 rxns=rxns, gas_model=gas_model, dT=dT, db=db)
     conditions = [f"at {_num(t, 2)} K and {_bar(p)}" for t, p in zip(T_c, P_c)]
     msgs = _messages(search, _ratio_variable(spec.name), key, tg, conditions, lo, hi,
@@ -568,7 +587,8 @@ def feed_ratio_for_conversion(species: Sequence[str], feed: Mapping[str, object]
         best_ratio=shape_out(_snap(np.exp(search.best_value), lo, hi), shape),
         crossings=_object_array([tuple(c) for c in search.crossings], shape),
         T=shape_out(T_c, shape), P=shape_out(P_c, shape), T_equilibrium=shape_out(T_eq, shape),
-        target=shape_out(tg, shape), key=key, approach=dT, message=_object_array(msgs, shape))
+        target=shape_out(tg, shape), key=key, approach=dT, message=_object_array(msgs, shape),
+        trustworthy=shape_out(trusted, shape), flags=_object_array(list(flags), shape))
 
 
 # =========================================================================== carbon

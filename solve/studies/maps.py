@@ -45,7 +45,8 @@ def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.nda
     one batched call and, at every state, the side giving the *lower* conversion of
     ``key`` is kept: the side that lowers conversion, T + ΔT for an exothermic reaction
     and T − ΔT for an endothermic one (van 't Hoff: d ln K/dT = ΔrH°/RT²).  A state is
-    flagged not converged unless both sides converged.
+    flagged not converged unless both sides converged, and not trustworthy where either side
+    used a species outside its data range.
 
     Returns
     -------
@@ -77,6 +78,10 @@ def solve_points(names: Sequence[str], feed: Mapping[str, np.ndarray], T: np.nda
         converged=conv, iterations=both.iterations[:m] + both.iterations[m:],
         max_residual=np.maximum(both.max_residual[:m], both.max_residual[m:]),
         g0_RT=both.g0_RT[idx], ln_phi_array=None if both.ln_phi_array is None else both.ln_phi_array[idx],
+        out_of_range_array=both.out_of_range_array[:m] | both.out_of_range_array[m:],
+        excluded_array=both.excluded_array[:m] | both.excluded_array[m:],
+        condensation_possible=None if both.condensation_possible is None
+        else both.condensation_possible[:m] | both.condensation_possible[m:],
         message=f"{int(m - conv.sum())} of {m} state(s) did not converge on one side of the approach"
         if not conv.all() else "all states converged")
     return res, side
@@ -168,6 +173,12 @@ class ConversionMap:
         above 1, graphite is thermodynamically stable (:func:`eqdesign.solve.studies.carbon.carbon_activity`).
     converged : ndarray of bool
         Non-converged points are NaN everywhere.
+    trustworthy : ndarray of bool | None
+        Converged, no species used outside its data range, no possible condensation
+        (:attr:`EquilibriumResult.trustworthy`).
+    flags : ndarray of str | None
+        Per point, what makes it untrustworthy ("" where nothing does;
+        :meth:`EquilibriumResult.state_flags`).
     conditions : dict[str, float]
         Fixed (non-swept) conditions, header -> SI value.
     message : str
@@ -192,6 +203,8 @@ class ConversionMap:
     message: str = ""
     max_residual: np.ndarray | None = field(default=None, repr=False)
     iterations: np.ndarray | None = field(default=None, repr=False)
+    trustworthy: np.ndarray | None = field(default=None, repr=False)
+    flags: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def shape(self) -> tuple:
@@ -213,7 +226,7 @@ class ConversionMap:
             ``T equilibrium [K]`` (with an approach), feed amounts ``feed <X> [mol]``,
             ``conversion <key> [-]``, yields, ``y <X> [-]`` for every gas species,
             ``reaction enthalpy [J/mol <key> converted]``, ``graphite activity [-]``,
-            ``converged [-]`` (1 or 0).
+            ``converged [-]`` (1 or 0), ``trustworthy [-]`` (1 or 0) and ``flags [text]``.
         """
         cols: dict[str, np.ndarray] = {"T [K]": self.T, "P [Pa]": self.P}
         for ax in self.axes:
@@ -234,9 +247,12 @@ class ConversionMap:
         if self.carbon_activity is not None:
             cols["graphite activity [-]"] = self.carbon_activity
         cols["converged [-]"] = self.converged.astype(int)
+        if self.trustworthy is not None:
+            cols["trustworthy [-]"] = np.asarray(self.trustworthy).astype(int)
+            cols["flags [text]"] = self.flags
         flat = {k: np.asarray(v).reshape(-1) for k, v in cols.items()}
         n = int(np.prod(self.shape)) if self.shape else 1
-        return [{k: v[i].item() for k, v in flat.items()} for i in range(n)]
+        return [{k: (v[i] if v.dtype == object else v[i].item()) for k, v in flat.items()} for i in range(n)]
 
     def _axis_grid(self, ax: SweepAxis) -> np.ndarray:
         i = self.axes.index(ax)
@@ -410,12 +426,16 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
     resid = np.full(n_points, np.nan)
     its = np.zeros(n_points, dtype=int)
     T_eq = T_flat.copy()
+    trusted = np.zeros(n_points, dtype=bool)
+    flags = np.full(n_points, "", dtype=object)
     for start in range(0, n_points, chunk):
         sl = slice(start, min(start + chunk, n_points))
         res, side = solve_points(names, {k: v[sl] for k, v in feed_flat.items()}, T_flat[sl], P_flat[sl],
                                  key=key, reactions=rxns, gas_model=gas_model, approach=dT, database=db)
         T_eq[sl] = res.T
         ok[sl] = res.converged
+        trusted[sl] = res.trustworthy
+        flags[sl] = res.state_flags()
         resid[sl] = res.max_residual
         its[sl] = res.iterations
         conv[sl] = res.conversion(key)
@@ -438,6 +458,9 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
         f"{n_bad} of {n_points} point(s) did not converge (NaN)"
     if n_bad:
         warnings.warn(message, NotConvergedWarning, stacklevel=2)
+    n_flagged = int((ok & ~trusted).sum())
+    if n_flagged:
+        message += f"; {n_flagged} converged point(s) not trustworthy (see flags)"
 
     def grid(a):
         return a.reshape(shape)
@@ -449,4 +472,5 @@ def conversion_map(species: Sequence[str], feed: Mapping[str, object], *, T, P, 
         stoichiometric_yield=None if (yld is None or not per_key) else grid(yld / per_key),
         mole_fractions={k: grid(v) for k, v in y.items()}, reaction_enthalpy=grid(dH),
         carbon_activity=None if a_C is None else grid(a_C), converged=grid(ok),
-        conditions=conditions, message=message, max_residual=grid(resid), iterations=grid(its))
+        conditions=conditions, message=message, max_residual=grid(resid), iterations=grid(its),
+        trustworthy=grid(trusted), flags=grid(flags))

@@ -77,10 +77,10 @@ def test_nan_text_in_a_feed_flow():
 
 def test_nan_in_a_user_species_cp_list():
     text = BASE.replace("  conversion_map: {}", "  conversion_map: {}\nuser_species:\n  XQ:\n    formula: N2H2\n"
-                        "    source: invented for a test\n    formation_data:\n      enthalpy: '200 kJ/mol'\n"
+                        "    source: invented for a test\n    standard_pressure: 1 bar\n    formation_data:\n      enthalpy: '200 kJ/mol'\n"
                         "      entropy: '220 J/(mol K)'\n      cp: [29.0, .nan]\n")
     got = problems_of(text)
-    assert got == ["x.yaml: user_species.XQ.formation_data.cp[1] (line 25): nan is not a finite number; give a "
+    assert got == ["x.yaml: user_species.XQ.formation_data.cp[1] (line 26): nan is not a finite number; give a "
                    "finite value"]
     text = text.replace("[29.0, .nan]", "[29.0, 'nan']")
     assert any("user_species.XQ.formation_data.cp" in p for p in problems_of(text))
@@ -106,7 +106,7 @@ def test_empty_pressure_option_lists_are_refused():
 def test_reactions_in_case_files_take_every_arrow_reaction_parse_takes(arrow):
     case = parse_case(BASE.replace("N2 + 3 H2 = 2 NH3", f"N2 + 3 H2 {arrow} 2 NH3"), "x.yaml")
     assert case.solver_reactions == [f"N2 + 3 H2 {arrow} 2 NH3"]
-    text = BASE.replace("  conversion_map: {}", "  conversion_map: {}\nuser_species:\n  XQ:\n    source: invented\n"
+    text = BASE.replace("  conversion_map: {}", "  conversion_map: {}\nuser_species:\n  XQ:\n    source: invented\n    standard_pressure: 1 bar\n"
                         "    reaction_data:\n      reaction: 'N2 + H2 " + arrow + " XQ'\n"
                         "      enthalpy: '200 kJ/mol'\n      entropy: '-100 J/(mol K)'\n")
     case = parse_case(text, "x.yaml")

@@ -127,6 +127,7 @@ USER_REACTION = """\
 user_species:
   NH3u:
     source: "reaction data taken from the bundled NASA TM-4513 data at 700 K (test)"
+    standard_pressure: 1 bar
     critical: {{Tc: "405.4 K", Pc: "113.53 bar", omega: 0.257}}
     reaction_data:
       reaction: "N2 + 3 H2 = 2 NH3u"
@@ -162,6 +163,7 @@ def test_species_from_K_at_a_temperature(db):
 user_species:
   NH3k:
     source: "invented for the test"
+    standard_pressure: 1 bar
     reaction_data:
       reaction: "N2 + 3 H2 = 2 NH3k"
       enthalpy: "-105 kJ/mol"
@@ -188,6 +190,7 @@ user_species:
   NH3f:
     formula: NH3
     source: "CODATA key values (ΔfH°) and NIST-JANAF (S°, cp), 298.15 K"
+    standard_pressure: 1 bar
     formation_data:
       enthalpy: "-45.94 kJ/mol"
       entropy: "192.77 J/(mol K)"
@@ -211,6 +214,7 @@ user_species:
   NH3f:
     formula: NH3
     source: "test"
+    standard_pressure: 1 bar
     formation_data: {enthalpy: "-45.94 kJ/mol", entropy: "192.77 J/(mol K)", cp: "35.06 J/(mol K)",
                      valid: {low: "298.15 K", high: "1000 K"}}
 """
@@ -286,6 +290,7 @@ UNCERTAIN_REACTION_SPECIES = """\
 user_species:
   NH3k:
     source: "invented reaction data for the test"
+    standard_pressure: 1 bar
     reaction_data:
       reaction: "N2 + 3 H2 = 2 NH3k"
       enthalpy: "-105 kJ/mol"

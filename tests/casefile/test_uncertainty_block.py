@@ -202,7 +202,7 @@ def test_band_brackets_the_map_and_is_drawn_in_greyscale(ammonia):
 
 def test_new_csv_columns_state_their_units(ammonia):
     _, _, _, files = ammonia
-    text_columns = {"question", "solve for", "fixed condition", "answer unit", "message", "datum", "species",
+    text_columns = {"question", "solve for", "fixed condition", "answer unit", "status", "message", "datum", "species",
                     "unit of u", "source of u"}
     for name in ("targets.csv", "temperature_intervals.csv", "conversion_band.csv",
                  "conversion_band_by_temperature.csv", "uncertainty_ranking_temperature.csv",
